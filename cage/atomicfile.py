@@ -1,0 +1,43 @@
+"""Write output files atomically: a temporary file beside the target, then rename.
+
+A failed run never leaves a half-written file behind. Errors (missing folder,
+no permission) become :class:`cage.errors.InputError` with the path named.
+"""
+from __future__ import annotations
+
+import os
+import tempfile
+from pathlib import Path
+
+from cage.errors import InputError
+
+
+def write_bytes(path: str | os.PathLike, data: bytes) -> Path:
+    """Write ``data`` to ``path`` atomically and return the path."""
+    target = Path(path)
+    folder = target.parent if str(target.parent) else Path(".")
+    if not folder.is_dir():
+        raise InputError(f"{target}: output folder {folder} does not exist")
+    if target.is_dir():
+        raise InputError(f"{target}: is a folder, not a file")
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
+    except OSError as exc:
+        raise InputError(f"{target}: cannot write in {folder} ({exc.strerror})") from None
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            fh.write(data)
+        os.chmod(tmp, 0o644)
+        os.replace(tmp, target)
+    except OSError as exc:
+        try:
+            os.unlink(tmp)
+        except OSError:
+            pass
+        raise InputError(f"{target}: cannot write ({exc.strerror})") from None
+    return target
+
+
+def write_text(path: str | os.PathLike, text: str) -> Path:
+    """Write UTF-8 ``text`` to ``path`` atomically and return the path."""
+    return write_bytes(path, text.encode("utf-8"))
