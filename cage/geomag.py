@@ -1,0 +1,181 @@
+"""The local geomagnetic main field from IGRF-14, through ppigrf.
+
+Input is geodetic (WGS84) latitude and longitude in degrees, altitude in metres above
+the ellipsoid, and a calendar date (taken at 00:00 UTC). Output is the field in the
+``ned`` frame (north, east, down) in nT, with horizontal and total intensity,
+declination and inclination, and the secular variation in nT per year.
+
+IGRF: Alken et al., "International Geomagnetic Reference Field: the fourteenth
+generation", Earth Planets Space (2025). The model is a piecewise-linear function of
+time between its 5-year epochs; the last interval (2025-2030) is the predictive
+secular-variation model.
+
+Care taken around ppigrf 2.1 (it prints its own messages and has edge cases):
+- its printing is kept off the terminal;
+- at latitude exactly +-90 the east component comes back NaN, so the poles are
+  evaluated 1e-6 degrees short of the pole along the given meridian, which defines
+  "north" and "east" there;
+- past the last epoch it holds the last field instead of extrapolating, so we
+  extrapolate linearly with the last interval's secular variation, up to
+  :data:`LAST_DATE`, with a warning;
+- before 1900 it returns NaN, so those dates are refused;
+- secular variation is taken over the model interval that holds the date (the exact
+  slope of the piecewise-linear model), so it stays right at the end of the span.
+"""
+from __future__ import annotations
+
+import contextlib
+import datetime as _dt
+import functools
+import io
+import math
+import warnings
+from dataclasses import dataclass
+
+import numpy as np
+
+from cage.errors import InputError
+
+MODEL_NAME = "IGRF-14"
+FIRST_DATE = _dt.date(1900, 1, 1)
+LAST_DATE = _dt.date(2035, 1, 1)
+DAYS_PER_YEAR = 365.25
+POLE_OFFSET_DEG = 1e-6
+
+
+@dataclass(frozen=True)
+class EarthField:
+    """The main field at one site and date (``ned`` frame, nT)."""
+
+    date: _dt.date
+    latitude_deg: float
+    longitude_deg: float
+    altitude_m: float
+    north_nT: float
+    east_nT: float
+    down_nT: float
+    sv_north_nT_per_year: float
+    sv_east_nT_per_year: float
+    sv_down_nT_per_year: float
+    model: str = MODEL_NAME
+    extrapolated: bool = False
+    warning: str = ""
+
+    @property
+    def ned_nT(self) -> np.ndarray:
+        return np.array([self.north_nT, self.east_nT, self.down_nT])
+
+    @property
+    def sv_ned_nT_per_year(self) -> np.ndarray:
+        return np.array([self.sv_north_nT_per_year, self.sv_east_nT_per_year, self.sv_down_nT_per_year])
+
+    @property
+    def horizontal_nT(self) -> float:
+        return math.hypot(self.north_nT, self.east_nT)
+
+    @property
+    def total_nT(self) -> float:
+        return math.sqrt(self.north_nT**2 + self.east_nT**2 + self.down_nT**2)
+
+    @property
+    def declination_deg(self) -> float:
+        """Angle from true north to the horizontal field, east positive."""
+        return math.degrees(math.atan2(self.east_nT, self.north_nT))
+
+    @property
+    def inclination_deg(self) -> float:
+        """Dip below the horizontal, positive downward."""
+        return math.degrees(math.atan2(self.down_nT, self.horizontal_nT))
+
+
+@functools.lru_cache(maxsize=1)
+def model_epochs() -> tuple[_dt.datetime, ...]:
+    """The model's epochs (snapshot times) as naive UTC datetimes."""
+    from ppigrf import ppigrf as _ppigrf
+
+    with contextlib.redirect_stdout(io.StringIO()):
+        g, _ = _ppigrf.read_shc()
+    return tuple(t.to_pydatetime() for t in g.index)
+
+
+def _as_datetime(date) -> _dt.datetime:
+    if isinstance(date, _dt.datetime):
+        return date.replace(tzinfo=None)
+    if isinstance(date, _dt.date):
+        return _dt.datetime(date.year, date.month, date.day)
+    raise InputError(f"date must be a calendar date, got {date!r}")
+
+
+def _years(delta: _dt.timedelta) -> float:
+    return delta.total_seconds() / 86400.0 / DAYS_PER_YEAR
+
+
+def _igrf_ned(lat_deg: float, lon_deg: float, alt_m: float, dates: list[_dt.datetime]) -> np.ndarray:
+    """(len(dates), 3) NED field from ppigrf, its printing and warnings suppressed."""
+    import ppigrf
+
+    with contextlib.redirect_stdout(io.StringIO()), warnings.catch_warnings(), np.errstate(all="ignore"):
+        warnings.simplefilter("ignore")
+        be, bn, bu = ppigrf.igrf(lon_deg, lat_deg, alt_m / 1000.0, dates)
+    out = np.column_stack([np.ravel(bn), np.ravel(be), -np.ravel(bu)])
+    if not np.all(np.isfinite(out)):
+        raise InputError(f"the field model gave no value at latitude {lat_deg:g}, longitude {lon_deg:g}, "
+                         f"altitude {alt_m:g} m")
+    return out
+
+
+def span_warning(date) -> str:
+    """The one-line warning for a date past the model's predictive span, or ''."""
+    last = model_epochs()[-1]
+    when = _as_datetime(date)
+    if when > last:
+        return (f"warning: {when.date()} is after the end of {MODEL_NAME}'s predictive span ({last.date()}); "
+                f"the field is extrapolated with the model's last secular variation and may be off by "
+                f"tens to hundreds of nT")
+    return ""
+
+
+def earth_field(latitude_deg: float, longitude_deg: float, altitude_m: float, date) -> EarthField:
+    """IGRF-14 main field at a geodetic site and date.
+
+    latitude_deg: geodetic, -90..90. longitude_deg: east positive. altitude_m: above the
+    WGS84 ellipsoid. date: datetime.date (00:00 UTC) or datetime.datetime (naive = UTC).
+    Dates before 1900 or after 2035 raise InputError.
+    """
+    when = _as_datetime(date)
+    day = when.date()
+    if day < FIRST_DATE:
+        raise InputError(f"date {day} is before {FIRST_DATE}, where {MODEL_NAME} begins")
+    if day > LAST_DATE:
+        raise InputError(f"date {day} is after {LAST_DATE}; {MODEL_NAME} cannot be extrapolated that far "
+                         f"(its predictive span ends {model_epochs()[-1].date()})")
+    if not -90.0 <= latitude_deg <= 90.0:
+        raise InputError(f"latitude {latitude_deg:g} deg is outside -90..90")
+    lat_eval = float(np.clip(latitude_deg, -90.0 + POLE_OFFSET_DEG, 90.0 - POLE_OFFSET_DEG))
+
+    epochs = model_epochs()
+    if when >= epochs[-1]:
+        t_a, t_b = epochs[-2], epochs[-1]
+        b_a, b_b = _igrf_ned(lat_eval, longitude_deg, altitude_m, [t_a, t_b])
+        sv = (b_b - b_a) / _years(t_b - t_a)
+        b = b_b + sv * _years(when - t_b)
+    else:
+        i = max(k for k in range(len(epochs) - 1) if epochs[k] <= when)
+        t_a, t_b = epochs[i], epochs[i + 1]
+        b, b_a, b_b = _igrf_ned(lat_eval, longitude_deg, altitude_m, [when, t_a, t_b])
+        sv = (b_b - b_a) / _years(t_b - t_a)
+    warning = span_warning(when)
+    return EarthField(
+        date=day,
+        latitude_deg=float(latitude_deg),
+        longitude_deg=float(longitude_deg),
+        altitude_m=float(altitude_m),
+        north_nT=float(b[0]),
+        east_nT=float(b[1]),
+        down_nT=float(b[2]),
+        sv_north_nT_per_year=float(sv[0]),
+        sv_east_nT_per_year=float(sv[1]),
+        sv_down_nT_per_year=float(sv[2]),
+        extrapolated=bool(warning),
+        warning=warning,
+    )
