@@ -1,0 +1,203 @@
+"""How the three coil pairs of a cage sit together, and whether they fit the room.
+
+Frames: every coil is wound on a frame whose cross-section is ``frame_width_m`` (along the
+coil axis) by ``frame_depth_m`` (radial), centred on the winding centreline. Frames of
+different axes must not collide. Square and round coils of different axes cross each
+other's planes, so the rule is geometric: the smallest distance between the centrelines
+of any two coils of different axes must be at least the diameter of the circle that
+circumscribes a frame cross-section, sqrt(width^2 + depth^2), plus ``frame_gap_m``. That
+holds whatever the angle at which two frames pass each other (two discs of that diameter
+around the centrelines cannot overlap), so it is slightly conservative where frames pass
+square-on.
+
+The smallest distance is found by sampling both centrelines (closed curves) and refining
+around the closest samples; by the mirror symmetry of each pair, one coil of each pair
+stands for both.
+
+Envelope: the bounding box of all frames, cage frame, metres. It must fit the room less
+``clearance_m`` on every side, floor and ceiling included (room length along x, width
+along y, height along z).
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from cage.coils import AXES, CoilCage, CoilPair, flat_spacing_m
+
+COARSE_SAMPLES = 96
+FINE_SAMPLES = 48
+
+
+@dataclass(frozen=True)
+class FrameSpec:
+    """Frame cross-section and the gap kept between frames of different axes (metres)."""
+
+    width_m: float = 0.04
+    depth_m: float = 0.04
+    gap_m: float = 0.01
+
+    @property
+    def needed_distance_m(self) -> float:
+        """Least centreline distance between coils of different axes."""
+        return math.hypot(self.width_m, self.depth_m) + self.gap_m
+
+
+@dataclass(frozen=True)
+class Layout:
+    """The layout check of a cage.
+
+    envelope_m: outer size of the frames' bounding box along cage x, y, z.
+    min_distance_m: smallest centreline distance between coils of different axes.
+    clearance_m: min_distance_m less the frame circumcircle diameter: the free gap
+        between frames at their closest (must be at least the frame gap).
+    closest_axes: the two axes whose coils come closest.
+    order: axes from outermost (largest transverse half-width) to innermost.
+    room_inner_m: the room less its clearance on every side, or None.
+    fits_room: envelope within room_inner_m on every axis (True when no room given).
+    """
+
+    envelope_m: tuple[float, float, float]
+    min_distance_m: float
+    clearance_m: float
+    closest_axes: tuple[str, str]
+    order: tuple[str, str, str]
+    nests: bool
+    room_inner_m: tuple[float, float, float] | None
+    fits_room: bool
+
+
+def _curve_points(pair: CoilPair, t: np.ndarray, sign: float = 1.0) -> np.ndarray:
+    """Points (len(t), 3) on the centreline of one coil, parameter t in [0, 1)."""
+    a = AXES.index(pair.axis)
+    u, v = (a + 1) % 3, (a + 2) % 3
+    pts = np.zeros((t.size, 3))
+    pts[:, a] = sign * pair.spacing_m / 2.0
+    if pair.shape == "round":
+        ang = 2.0 * np.pi * t
+        pts[:, u] = pair.size_m * np.cos(ang)
+        pts[:, v] = pair.size_m * np.sin(ang)
+        return pts
+    # Square: walk the four sides, corner to corner.
+    h = pair.size_m / 2.0
+    s = (t % 1.0) * 4.0
+    side = np.minimum(s.astype(int), 3)
+    f = s - side
+    corners = np.array([[h, -h], [h, h], [-h, h], [-h, -h], [h, -h]])
+    start, end = corners[side], corners[side + 1]
+    uv = start + (end - start) * f[:, None]
+    pts[:, u], pts[:, v] = uv[:, 0], uv[:, 1]
+    return pts
+
+
+def _closest(pa: CoilPair, pb: CoilPair) -> float:
+    """Smallest distance between the +side coil of pair a and either coil of pair b."""
+    best = math.inf
+    t = np.arange(COARSE_SAMPLES) / COARSE_SAMPLES
+    step = 1.0 / COARSE_SAMPLES
+    for sign_b in (1.0, -1.0):
+        xa = _curve_points(pa, t)
+        xb = _curve_points(pb, t, sign_b)
+        d2 = ((xa[:, None, :] - xb[None, :, :]) ** 2).sum(axis=2)
+        i, j = np.unravel_index(np.argmin(d2), d2.shape)
+        # Refine in the neighbourhood of the closest samples (two rounds).
+        ta, tb, width = t[i], t[j], 1.5 * step
+        for _ in range(2):
+            fa = ta + np.linspace(-width, width, FINE_SAMPLES)
+            fb = tb + np.linspace(-width, width, FINE_SAMPLES)
+            ya = _curve_points(pa, fa % 1.0)
+            yb = _curve_points(pb, fb % 1.0, sign_b)
+            e2 = ((ya[:, None, :] - yb[None, :, :]) ** 2).sum(axis=2)
+            k, m = np.unravel_index(np.argmin(e2), e2.shape)
+            ta, tb = fa[k] % 1.0, fb[m] % 1.0
+            width = 2.0 * width / FINE_SAMPLES
+        best = min(best, math.sqrt(float(e2[k, m])), math.sqrt(float(d2[i, j])))
+    return best
+
+
+def min_centreline_distance_m(pair_a: CoilPair, pair_b: CoilPair) -> float:
+    """Smallest distance between the centrelines of any coil of pair a and any of pair b."""
+    if pair_a.axis == pair_b.axis:
+        raise ValueError("the two pairs must belong to different axes")
+    return _closest(pair_a, pair_b)
+
+
+def pair_extent_m(pair: CoilPair, frame: FrameSpec) -> np.ndarray:
+    """Half-extent (3,) of one pair's frames along cage x, y, z."""
+    a = AXES.index(pair.axis)
+    ext = np.full(3, pair.half_width_m + frame.depth_m / 2.0)
+    ext[a] = pair.spacing_m / 2.0 + frame.width_m / 2.0
+    return ext
+
+
+def envelope_m(cage: CoilCage, frame: FrameSpec) -> np.ndarray:
+    """Outer size (3,) of the bounding box of all frames along cage x, y, z."""
+    return 2.0 * np.max([pair_extent_m(p, frame) for p in cage.pairs], axis=0)
+
+
+def room_inner_m(room) -> np.ndarray:
+    """The room (length x, width y, height z) less its clearance on every side."""
+    return np.array([room.length_m, room.width_m, room.height_m]) - 2.0 * room.clearance_m
+
+
+def check_layout(cage: CoilCage, frame: FrameSpec, room=None) -> Layout:
+    """Clearances between the frames of different axes, the envelope and the fit in the room."""
+    distances = {}
+    pairs = cage.pairs
+    for i in range(3):
+        for j in range(i + 1, 3):
+            distances[(pairs[i].axis, pairs[j].axis)] = min_centreline_distance_m(pairs[i], pairs[j])
+    closest = min(distances, key=distances.get)
+    dmin = distances[closest]
+    env = envelope_m(cage, frame)
+    order = tuple(p.axis for p in sorted(pairs, key=lambda p: (-p.half_width_m, AXES.index(p.axis))))
+    inner = None if room is None else room_inner_m(room)
+    fits = True if inner is None else bool(np.all(env <= inner + 1e-12))
+    return Layout(
+        envelope_m=tuple(float(v) for v in env),
+        min_distance_m=dmin,
+        clearance_m=dmin - math.hypot(frame.width_m, frame.depth_m),
+        closest_axes=closest,
+        order=order,
+        nests=dmin >= frame.needed_distance_m - 1e-12,
+        room_inner_m=None if inner is None else tuple(float(v) for v in inner),
+        fits_room=fits,
+    )
+
+
+def clears(pair: CoilPair, others, frame: FrameSpec) -> bool:
+    """True when ``pair`` keeps the needed centreline distance from every pair in ``others``."""
+    need = frame.needed_distance_m
+    return all(min_centreline_distance_m(pair, o) >= need for o in others)
+
+
+def smallest_nesting_size_m(axis: str, shape: str, inner, frame: FrameSpec, lower_m: float,
+                            spacing_per_size: float | None = None, upper_m: float = 100.0,
+                            tolerance_m: float = 1e-4) -> float:
+    """Smallest size (side or radius) >= lower_m of a pair on ``axis`` that clears every
+    pair in ``inner``, with spacing = spacing_per_size x size (default: the flat optimum).
+
+    Searches upward from ``lower_m`` in 4 % steps to the first size that clears, then
+    bisects between it and the last size that did not. Raises ValueError beyond upper_m.
+    """
+    ratio = spacing_per_size if spacing_per_size is not None else flat_spacing_m(shape, 1.0)
+
+    def ok(size: float) -> bool:
+        return clears(CoilPair(axis, shape, size, ratio * size, 1), inner, frame)
+
+    if not inner or ok(lower_m):
+        return float(lower_m)
+    lo = hi = float(lower_m)
+    while not ok(hi):
+        lo, hi = hi, hi * 1.04 + frame.needed_distance_m / 4.0
+        if hi > upper_m:
+            raise ValueError(f"no {shape} {axis} pair up to {upper_m:g} m clears the inner pairs")
+    while hi - lo > tolerance_m:
+        mid = 0.5 * (lo + hi)
+        if ok(mid):
+            hi = mid
+        else:
+            lo = mid
+    return hi
