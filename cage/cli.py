@@ -192,6 +192,175 @@ def field(
         _say(field_table(site, amb))
 
 
+# ----------------------------------------------------------------------------- design
+
+SHAPE_HELP = "Coil shape on every axis: square, round or either (default: the site's requirement.shape)."
+MINIMISE_HELP = "What the planner minimises: power (at full range), mass (copper) or size (envelope volume)."
+
+CAUTION_HOT = ("caution: windings run hot at full range; check their temperature on the built coils and "
+               "keep within the enamel and frame ratings")
+CAUTION_VOLTAGE = ("caution: supply voltages above about 50 V DC need touch protection; wiring and protection "
+                   "must follow local electrical codes and licensed practice")
+
+
+def _plan_from_site(site, shape, minimise, spacing, max_field_step_nT):
+    from cage.ambient import site_ambient
+    from cage.optimise import plan_cage, plan_inputs_from_site
+
+    if site.room is None:
+        raise InputError(f"{site.source}: no [room] table; the planner needs the room the cage must fit")
+    amb = site_ambient(site)
+    _warn(amb.earth.warning)
+    inp = plan_inputs_from_site(site, amb.in_force_cage_nT, shape=shape, minimise=minimise, spacing=spacing,
+                                max_field_step_nT=max_field_step_nT)
+    return amb, inp, plan_cage(inp)
+
+
+def design_table(plan, inp) -> str:
+    """The per-axis summary of ``cage design``."""
+    rows = [
+        ("shape", lambda a: a.pair.shape, ""),
+        ("size (side or radius)", lambda a: f"{a.pair.size_m:.3f}", "m"),
+        ("spacing", lambda a: f"{a.pair.spacing_m:.3f}", "m"),
+        ("turns per coil", lambda a: f"{a.pair.turns}", ""),
+        ("wire", lambda a: a.wire, ""),
+        ("resistance at 20 C", lambda a: f"{a.electrics.resistance_20C_ohm:.3f}", "ohm"),
+        ("resistance hot", lambda a: f"{a.electrics.resistance_hot_ohm:.3f}", "ohm"),
+        ("lead resistance", lambda a: f"{a.electrics.lead_resistance_ambient_ohm:.3f}", "ohm"),
+        ("inductance", lambda a: f"{a.electrics.inductance_H * 1e3:.2f}", "mH"),
+        ("time constant L/R", lambda a: f"{a.electrics.time_constant_s * 1e3:.2f}", "ms"),
+        ("field per ampere", lambda a: f"{a.field_per_amp_nT / 1000:.3f}", "uT/A"),
+        ("full-range field", lambda a: f"{a.needed_field_nT / 1000:.2f}", "uT"),
+        ("full-range current", lambda a: f"{a.full_current_A:.3f}", "A"),
+        ("voltage at full range", lambda a: f"{abs(a.drive.voltage_V):.2f}", "V"),
+        ("power at full range", lambda a: f"{a.drive.power_W:.1f}", "W"),
+        ("supply limits", lambda a: f"{a.supply.max_voltage_V:g} V {a.supply.max_current_A:g} A", ""),
+        ("field step", lambda a: f"{a.field_step_nT:.1f}", "nT"),
+        ("uniformity reached", lambda a: f"{a.uniformity_reached * 100:.4f}", "%"),
+        ("copper mass", lambda a: f"{a.electrics.copper_mass_kg:.2f}", "kg"),
+        ("winding temperature", lambda a: f"{a.electrics.winding_temperature_C:.1f}", "C"),
+        ("current density", lambda a: f"{a.electrics.current_density_A_per_mm2:.2f}", "A/mm^2"),
+    ]
+    width = max(len(r[0]) for r in rows) + 2
+    lines = [f"{'axis':<{width}}{'x':>14}{'y':>14}{'z':>14}"]
+    for label, get, unit in rows:
+        cells = "".join(f"{get(a):>14}" for a in plan.axes)
+        lines.append(f"{label:<{width}}{cells}  {unit}")
+    lay = plan.layout
+    env = " x ".join(f"{v:.3f}" for v in lay.envelope_m)
+    lines += [
+        "",
+        f"Envelope (frames included)  {env} m (x, y, z); axes outermost first: {', '.join(plan.order)}",
+        f"Closest frames              {lay.closest_axes[0]} and {lay.closest_axes[1]}: centrelines "
+        f"{lay.min_distance_m * 1000:.1f} mm apart, {lay.clearance_m * 1000:.1f} mm free between frames",
+    ]
+    if lay.room_inner_m is not None:
+        room = " x ".join(f"{v:.2f}" for v in lay.room_inner_m)
+        lines.append(f"Room less clearance         {room} m: {'fits' if lay.fits_room else 'does NOT fit'}")
+    lines.append(f"Total at full range         {plan.total_power_W:.1f} W, copper {plan.copper_mass_kg:.1f} kg "
+                 f"(objective: least {plan.minimise})")
+    return "\n".join(lines)
+
+
+def _design_cautions(plan, inp) -> list[str]:
+    out = list(plan.warnings)
+    if any(a.electrics.winding_temperature_C > 50.0 for a in plan.axes):
+        out.append(CAUTION_HOT)
+    if any(abs(a.drive.voltage_V) > 50.0 for a in plan.axes):
+        out.append(CAUTION_VOLTAGE)
+    return out
+
+
+@app.command()
+def design(
+    site_file: Path = typer.Argument(..., help="Site file (TOML) with [room], [requirement], [coil], [[supply]].",
+                                     show_default=False),
+    out: Path = typer.Option(..., "--out", help="Design file to write (JSON)."),
+    shape: Optional[str] = typer.Option(None, "--shape", help=SHAPE_HELP),
+    minimise: str = typer.Option("power", "--minimise", help=MINIMISE_HELP),
+    spacing: str = typer.Option("flat", "--spacing", help="flat: each pair at its flat-field spacing; "
+                                                          "free: spacing chosen for the test volume."),
+    max_field_step_nT: Optional[float] = typer.Option(
+        None, "--max-field-step-nT", help="Largest field step one supply current step may give (nT)."),
+):
+    """Size a nested three-axis cage for the site's room, test volume, field range and supplies."""
+    from cage import sitefile
+    from cage.designfile import save_design
+    from cage.optimise import design_from_plan
+
+    site = sitefile.load_site(site_file)
+    amb, inp, plan = _plan_from_site(site, shape, minimise, spacing, max_field_step_nT)
+    save_design(out, design_from_plan(plan, inp, site, amb))
+    _say(f"Design for {site.name} ({amb.source} field, {amb.earth.date.isoformat()})")
+    _say(design_table(plan, inp))
+    for line in _design_cautions(plan, inp):
+        _warn(line)
+    _say(f"Wrote {out}")
+
+
+@app.command()
+def compare(
+    site_file: Path = typer.Argument(..., help="Site file (TOML).", show_default=False),
+    sizes: str = typer.Option("1.2:3.0:0.1", "--sizes",
+                              help="Outer sizes START:STOP:STEP or a comma list (m): side of the outermost "
+                                   "square pair, or diameter of the outermost round pair."),
+    shape: Optional[str] = typer.Option(None, "--shape", help=SHAPE_HELP),
+    minimise: str = typer.Option("power", "--minimise", help=MINIMISE_HELP),
+    as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of a table."),
+    plot: Optional[Path] = typer.Option(None, "--plot", help="Write the comparison figure (PNG)."),
+):
+    """The best cage at each outer size: envelope, uniform cube, power, copper, fit in the room."""
+    from cage import sitefile
+    from cage.ambient import site_ambient
+    from cage.compare import compare_sizes, parse_sizes
+    from cage.optimise import plan_inputs_from_site
+
+    site = sitefile.load_site(site_file)
+    values = parse_sizes(sizes)
+    if site.room is None:
+        raise InputError(f"{site.source}: no [room] table; compare needs the room the cage must fit")
+    amb = site_ambient(site)
+    _warn(amb.earth.warning)
+    inp = plan_inputs_from_site(site, amb.in_force_cage_nT, shape=shape, minimise=minimise)
+    if sys.stderr.isatty() and not as_json:
+        with typer.progressbar(length=len(values), label="sizes", file=sys.stderr) as bar:
+            rows = compare_sizes(inp, values, progress=lambda _s: bar.update(1))
+    else:
+        rows = compare_sizes(inp, values)
+    room_limit = None
+    if site.room is not None:
+        from cage.layout import room_inner_m
+
+        room_limit = float(min(room_inner_m(site.room)))
+    if plot is not None:
+        from cage.atomicfile import write_bytes
+        from cage.plots import compare_figure, png_bytes
+
+        fig = compare_figure([r.as_dict() for r in rows], room_limit, inp.uniformity)
+        write_bytes(plot, png_bytes(fig))
+    if as_json:
+        typer.echo(_dump_json({"format": "cage-compare", "version": 1, "site": site.name,
+                               "uniformity": inp.uniformity, "room_inner_min_m": room_limit,
+                               "rows": [r.as_dict() for r in rows]}), nl=False)
+        return
+    _say(f"Cage sizes for {site.name}: test volume {' x '.join(f'{v:g}' for v in inp.test_volume_m)} m "
+         f"at {inp.uniformity * 100:g} %")
+    _say(f"{'outer (m)':>10} {'shape':>7} {'envelope x, y, z (m)':>22} {'cube (m)':>9} {'power (W)':>10} "
+         f"{'copper (kg)':>12}  fits room")
+    for r in rows:
+        if not r.feasible:
+            _say(f"{r.outer_size_m:>10.2f}  none: {r.reason}")
+            continue
+        env = ", ".join(f"{v:.2f}" for v in r.envelope_m)
+        mark = "yes" if r.fits_room else "no"
+        if r.meets_requirement:
+            mark += " (meets requirement)"
+        _say(f"{r.outer_size_m:>10.2f} {r.shape:>7} {env:>22} {r.uniform_cube_m:>9.3f} {r.total_power_W:>10.1f} "
+             f"{r.copper_mass_kg:>12.1f}  {mark}")
+    if plot is not None:
+        _say(f"Wrote {plot}")
+
+
 # ----------------------------------------------------------------------------- entry point
 
 def main(argv: Optional[list[str]] = None) -> None:

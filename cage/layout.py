@@ -27,8 +27,8 @@ import numpy as np
 
 from cage.coils import AXES, CoilCage, CoilPair, flat_spacing_m
 
-COARSE_SAMPLES = 96
-FINE_SAMPLES = 48
+COARSE_SAMPLES = 72
+FINE_SAMPLES = 25
 
 
 @dataclass(frozen=True)
@@ -92,29 +92,33 @@ def _curve_points(pair: CoilPair, t: np.ndarray, sign: float = 1.0) -> np.ndarra
     return pts
 
 
+def _sq_distances(xa: np.ndarray, xb: np.ndarray) -> np.ndarray:
+    """Squared distances (len(xa), len(xb)) between two point sets."""
+    d2 = (xa * xa).sum(axis=1)[:, None] + (xb * xb).sum(axis=1)[None, :] - 2.0 * (xa @ xb.T)
+    return np.maximum(d2, 0.0)
+
+
 def _closest(pa: CoilPair, pb: CoilPair) -> float:
     """Smallest distance between the +side coil of pair a and either coil of pair b."""
-    best = math.inf
     t = np.arange(COARSE_SAMPLES) / COARSE_SAMPLES
-    step = 1.0 / COARSE_SAMPLES
+    xa = _curve_points(pa, t)
+    best = math.inf
     for sign_b in (1.0, -1.0):
-        xa = _curve_points(pa, t)
-        xb = _curve_points(pb, t, sign_b)
-        d2 = ((xa[:, None, :] - xb[None, :, :]) ** 2).sum(axis=2)
+        d2 = _sq_distances(xa, _curve_points(pb, t, sign_b))
         i, j = np.unravel_index(np.argmin(d2), d2.shape)
-        # Refine in the neighbourhood of the closest samples (two rounds).
-        ta, tb, width = t[i], t[j], 1.5 * step
+        best = min(best, float(d2[i, j]))
+        # Refine around the closest samples: two rounds, each FINE_SAMPLES wide.
+        ta, tb, width = t[i], t[j], 1.5 / COARSE_SAMPLES
+        offsets = np.linspace(-1.0, 1.0, FINE_SAMPLES)
         for _ in range(2):
-            fa = ta + np.linspace(-width, width, FINE_SAMPLES)
-            fb = tb + np.linspace(-width, width, FINE_SAMPLES)
-            ya = _curve_points(pa, fa % 1.0)
-            yb = _curve_points(pb, fb % 1.0, sign_b)
-            e2 = ((ya[:, None, :] - yb[None, :, :]) ** 2).sum(axis=2)
+            fa = (ta + width * offsets) % 1.0
+            fb = (tb + width * offsets) % 1.0
+            e2 = _sq_distances(_curve_points(pa, fa), _curve_points(pb, fb, sign_b))
             k, m = np.unravel_index(np.argmin(e2), e2.shape)
-            ta, tb = fa[k] % 1.0, fb[m] % 1.0
-            width = 2.0 * width / FINE_SAMPLES
-        best = min(best, math.sqrt(float(e2[k, m])), math.sqrt(float(d2[i, j])))
-    return best
+            ta, tb = fa[k], fb[m]
+            best = min(best, float(e2[k, m]))
+            width *= 2.0 / FINE_SAMPLES
+    return math.sqrt(best)
 
 
 def min_centreline_distance_m(pair_a: CoilPair, pair_b: CoilPair) -> float:
@@ -175,12 +179,13 @@ def clears(pair: CoilPair, others, frame: FrameSpec) -> bool:
 
 def smallest_nesting_size_m(axis: str, shape: str, inner, frame: FrameSpec, lower_m: float,
                             spacing_per_size: float | None = None, upper_m: float = 100.0,
-                            tolerance_m: float = 1e-4) -> float:
+                            tolerance_m: float = 5e-4) -> float:
     """Smallest size (side or radius) >= lower_m of a pair on ``axis`` that clears every
     pair in ``inner``, with spacing = spacing_per_size x size (default: the flat optimum).
 
-    Searches upward from ``lower_m`` in 4 % steps to the first size that clears, then
-    bisects between it and the last size that did not. Raises ValueError beyond upper_m.
+    Searches upward from ``lower_m`` in 8 % steps to the first size that clears, then
+    bisects between it and the last size that did not; the size returned always clears.
+    Raises ValueError beyond upper_m.
     """
     ratio = spacing_per_size if spacing_per_size is not None else flat_spacing_m(shape, 1.0)
 
@@ -191,7 +196,7 @@ def smallest_nesting_size_m(axis: str, shape: str, inner, frame: FrameSpec, lowe
         return float(lower_m)
     lo = hi = float(lower_m)
     while not ok(hi):
-        lo, hi = hi, hi * 1.04 + frame.needed_distance_m / 4.0
+        lo, hi = hi, hi * 1.08 + frame.needed_distance_m / 2.0
         if hi > upper_m:
             raise ValueError(f"no {shape} {axis} pair up to {upper_m:g} m clears the inner pairs")
     while hi - lo > tolerance_m:

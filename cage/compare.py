@@ -1,0 +1,166 @@
+"""Compare cage sizes: the best cage at each outer size, and what it gives.
+
+The outer size of a cage is the transverse extent of its outermost pair's winding
+centreline: the side of a square pair, the diameter of a round one, so square and round
+cages compare on one scale. At each outer size, for each allowed shape (the same on all
+three axes) and each order of the axes, the outermost pair takes that size and each pair
+further in takes the largest size that clears the frames outside it (cage.layout); the
+windings are chosen as by the planner (cage.optimise.choose_winding) for the site's field
+range and supplies. The best candidate by the planner's objective is reported with its
+envelope, the largest uniform cube at the site's tolerance (the smallest over the three
+axes, bisection on the exact field), power at full range, copper mass and whether it fits
+the room; or why no candidate works.
+"""
+from __future__ import annotations
+
+import itertools
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from cage.coils import AXES, CoilCage, CoilPair, flat_spacing_m
+from cage.errors import InputError
+from cage.layout import FrameSpec, check_layout, clears
+from cage.optimise import PlanInputs, choose_winding
+
+MAX_SIZES = 400
+
+
+@dataclass(frozen=True)
+class CompareRow:
+    """The best cage at one outer size (metres), or the reason there is none."""
+
+    outer_size_m: float
+    feasible: bool
+    reason: str = ""
+    shape: str = ""
+    order: tuple[str, ...] = ()
+    sizes_m: tuple[float, float, float] | None = None
+    envelope_m: tuple[float, float, float] | None = None
+    uniform_cube_m: float | None = None
+    total_power_W: float | None = None
+    copper_mass_kg: float | None = None
+    fits_room: bool = False
+    meets_requirement: bool = False
+
+    def as_dict(self) -> dict:
+        return {
+            "outer_size_m": self.outer_size_m, "feasible": self.feasible, "reason": self.reason,
+            "shape": self.shape, "order_outermost_first": list(self.order),
+            "sizes_m": None if self.sizes_m is None else dict(zip(AXES, self.sizes_m)),
+            "envelope_m": None if self.envelope_m is None else list(self.envelope_m),
+            "uniform_cube_m": self.uniform_cube_m, "total_power_W": self.total_power_W,
+            "copper_mass_kg": self.copper_mass_kg, "fits_room": self.fits_room,
+            "meets_requirement": self.meets_requirement,
+        }
+
+
+def parse_sizes(text: str) -> np.ndarray:
+    """``START:STOP:STEP`` (metres, STOP included) or a comma list, into an array of sizes."""
+    text = text.strip()
+    try:
+        if ":" in text:
+            parts = [float(p) for p in text.split(":")]
+            if len(parts) != 3:
+                raise ValueError
+            start, stop, step = parts
+            if not all(math.isfinite(v) for v in parts) or step <= 0 or start <= 0 or stop < start:
+                raise InputError(f"--sizes {text!r}: need 0 < START <= STOP and STEP > 0 (metres)")
+            count = int(math.floor((stop - start) / step + 1e-9)) + 1
+            sizes = start + step * np.arange(count)
+        else:
+            sizes = np.array([float(p) for p in text.split(",")])
+    except ValueError:
+        raise InputError(f"--sizes {text!r}: give START:STOP:STEP or a comma list of sizes in metres") from None
+    if sizes.size == 0 or not np.all(np.isfinite(sizes)) or np.any(sizes <= 0) or np.any(sizes > 50):
+        raise InputError(f"--sizes {text!r}: sizes must be positive and at most 50 m")
+    if sizes.size > MAX_SIZES:
+        raise InputError(f"--sizes {text!r}: {sizes.size} sizes, at most {MAX_SIZES}")
+    return sizes
+
+
+def _size_from_outer(shape: str, outer_m: float) -> float:
+    return outer_m if shape == "square" else outer_m / 2.0
+
+
+def largest_nesting_size_m(axis: str, shape: str, outer, frame: FrameSpec, upper_m: float,
+                           tolerance_m: float = 5e-4) -> float | None:
+    """Largest size <= upper_m of a flat-spaced pair on ``axis`` that clears every pair in
+    ``outer``, by bisection (assumes clearance falls as the inner pair grows); None if even
+    a small pair does not clear."""
+    ratio = flat_spacing_m(shape, 1.0)
+
+    def ok(size: float) -> bool:
+        return clears(CoilPair(axis, shape, size, ratio * size, 1), outer, frame)
+
+    if ok(upper_m):
+        return upper_m
+    lo = 0.05 * upper_m
+    if not ok(lo):
+        return None
+    hi = upper_m
+    while hi - lo > tolerance_m:
+        mid = 0.5 * (lo + hi)
+        if ok(mid):
+            lo = mid
+        else:
+            hi = mid
+    return lo
+
+
+def compare_sizes(inp: PlanInputs, sizes_m, progress=None) -> list[CompareRow]:
+    """The best cage at each outer size; ``progress`` (callable, optional) is called once per size."""
+    from cage.uniformity import largest_uniform_cube_side_m
+
+    rows = []
+    for outer in sizes_m:
+        outer = float(outer)
+        best = None
+        reason = ""
+        for shape in inp.shapes:
+            for order in itertools.permutations(AXES):
+                top = _size_from_outer(shape, outer)
+                placed = [CoilPair(order[0], shape, top, flat_spacing_m(shape, top), 1)]
+                for axis in order[1:]:
+                    size = largest_nesting_size_m(axis, shape, placed, inp.frame, top)
+                    if size is None:
+                        break
+                    placed.append(CoilPair(axis, shape, size, flat_spacing_m(shape, size), 1))
+                if len(placed) < 3:
+                    reason = f"the frames do not nest at {outer:g} m"
+                    continue
+                by_axis = {p.axis: p for p in placed}
+                cage = CoilCage(by_axis["x"], by_axis["y"], by_axis["z"])
+                axes = []
+                for pair in cage.pairs:
+                    result = choose_winding(pair.axis, pair, inp, pair.size_m)
+                    if result.plan is None:
+                        reason = result.reason
+                        break
+                    axes.append(result.plan)
+                if len(axes) < 3:
+                    continue
+                layout = check_layout(cage, inp.frame, inp.room)
+                power = sum(a.drive.power_W for a in axes)
+                mass = sum(a.electrics.copper_mass_kg for a in axes)
+                volume = float(np.prod(layout.envelope_m))
+                score = {"power": power, "mass": mass, "size": volume}[inp.minimise]
+                key = (not layout.fits_room, score)
+                if best is None or key < best[0]:
+                    best = (key, shape, order, cage, axes, layout, power, mass)
+        if best is None:
+            rows.append(CompareRow(outer_size_m=outer, feasible=False, reason=reason or "no candidate"))
+        else:
+            _, shape, order, cage, axes, layout, power, mass = best
+            cube = min(largest_uniform_cube_side_m(p, inp.uniformity) for p in cage.pairs)
+            meets = all(a.uniformity_reached <= inp.uniformity for a in axes)
+            rows.append(CompareRow(
+                outer_size_m=outer, feasible=True, shape=shape, order=tuple(order),
+                sizes_m=tuple(p.size_m for p in cage.pairs), envelope_m=layout.envelope_m,
+                uniform_cube_m=cube, total_power_W=power, copper_mass_kg=mass, fits_room=layout.fits_room,
+                meets_requirement=meets and layout.fits_room,
+            ))
+        if progress is not None:
+            progress(outer)
+    return rows

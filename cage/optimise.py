@@ -1,0 +1,598 @@
+"""The planner: choose shape, size, spacing, turns and wire for each axis of a cage.
+
+Method (deterministic; everything is computed with the exact field engine and the
+electrical model, no Taylor estimates):
+
+1. Uniformity fixes the smallest size of each axis's pair. With the spacing at the flat
+   optimum (or, with ``spacing="free"``, the spacing that minimises the deviation at each
+   size), the largest relative deviation over the test box falls as the pair grows, so the
+   smallest size meeting the tolerance is found by bisection on the exact field.
+2. Nesting: for each order of the axes (outermost first) and each allowed shape per axis,
+   the innermost pair takes its smallest uniform size; each pair further out takes the
+   smallest size that is both uniform and clears the frames of the pairs inside it
+   (``cage.layout``). A smaller cage needs less power and copper for the same field, so the
+   smallest nested sizes are the best for every objective.
+3. Windings: per axis, the field needed is |ambient component| + extra field. For each allowed
+   wire, the turns range from the fewest that reach the field within the supply's current, to
+   the most that fit the frame channel, and no more than keep the full-range current at or
+   above half the supply's maximum (so the supply's current step gives a field step within a
+   factor two of the best it can) -- or, with ``max_field_step_nT``, no more than keep the
+   field step under that. Voltage at operating temperature and winding temperature fall as
+   turns rise (the same ampere-turns through more copper), so the feasible turns are an
+   interval found by bisection. Power at full range is least at the most turns; copper mass
+   at the fewest.
+4. Objective over all candidates: least total power at full range (default), least copper
+   mass, or least envelope volume ("size"); ties go to the smaller envelope, then the order
+   of enumeration, so the same site always gives the same design.
+
+When nothing is feasible, :class:`cage.errors.InfeasibleError` names the binding constraint
+in numbers.
+"""
+from __future__ import annotations
+
+import itertools
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from cage.coils import AXES, CoilCage, CoilPair, flat_spacing_m
+from cage.errors import InfeasibleError, InputError
+from cage.layout import FrameSpec, Layout, check_layout, pair_extent_m, room_inner_m, smallest_nesting_size_m
+from cage.supplies import DriveCheck, Supply, check_drive, field_step_nT, supply_for_axis, validate_supply
+
+OBJECTIVES = ("power", "mass", "size")
+SPACINGS = ("flat", "free")
+MIN_CURRENT_FRACTION = 0.5
+UNIFORMITY_GRID = 9
+SIZE_PRECISION = 2e-4  # relative, bisection on the uniform size
+MAX_SIZE_M = 50.0
+
+
+@dataclass(frozen=True)
+class PlanInputs:
+    """Everything the planner needs, SI units, cage frame.
+
+    needed_field_nT: per axis, |ambient component| + extra field (the full-range field).
+    supplies: the channel driving x, y, z.
+    """
+
+    test_volume_m: tuple[float, float, float]
+    uniformity: float
+    ambient_cage_nT: tuple[float, float, float]
+    extra_field_nT: tuple[float, float, float]
+    shapes: tuple[str, ...]
+    wires: tuple[str, ...]
+    supplies: tuple[Supply, Supply, Supply]
+    frame: FrameSpec
+    room: object | None = None
+    lead_length_m: float = 6.0
+    ambient_temperature_C: float = 22.0
+    max_winding_temperature_C: float = 60.0
+    axis_order: tuple[str, str, str] | None = None
+    spacing: str = "flat"
+    minimise: str = "power"
+    max_field_step_nT: float | None = None
+
+    @property
+    def needed_field_nT(self) -> np.ndarray:
+        return np.abs(np.array(self.ambient_cage_nT)) + np.array(self.extra_field_nT)
+
+
+@dataclass(frozen=True)
+class AxisPlan:
+    """One axis of a planned cage at its full-range current."""
+
+    pair: CoilPair
+    wire: str
+    electrics: object  # cage.electrical.AxisElectrics at the full-range current
+    supply: Supply
+    drive: DriveCheck
+    needed_field_nT: float
+    full_current_A: float
+    field_per_amp_nT: float
+    field_step_nT: float
+    uniformity_reached: float
+    min_uniform_size_m: float
+
+
+@dataclass(frozen=True)
+class Plan:
+    axes: tuple[AxisPlan, AxisPlan, AxisPlan]
+    layout: Layout
+    order: tuple[str, str, str]
+    minimise: str
+    spacing: str
+    total_power_W: float
+    copper_mass_kg: float
+    warnings: tuple[str, ...] = field(default_factory=tuple)
+
+    @property
+    def cage(self) -> CoilCage:
+        return CoilCage(*(a.pair for a in self.axes))
+
+    def axis(self, name: str) -> AxisPlan:
+        return self.axes[AXES.index(name)]
+
+
+# ----------------------------------------------------------------------------- inputs
+
+def plan_inputs_from_site(site, ambient_cage_nT, *, shape: str | None = None, minimise: str = "power",
+                          spacing: str = "flat", max_field_step_nT: float | None = None) -> PlanInputs:
+    """Planner inputs from a :class:`cage.sitefile.Site` and the ambient field in force (cage frame, nT)."""
+    from cage.wires import wire_from_name
+
+    where = site.source or "site"
+    if minimise not in OBJECTIVES:
+        raise InputError(f"--minimise must be one of {', '.join(OBJECTIVES)}, got {minimise!r}")
+    if spacing not in SPACINGS:
+        raise InputError(f"--spacing must be one of {', '.join(SPACINGS)}, got {spacing!r}")
+    req = site.requirement
+    chosen = shape or req.shape
+    if chosen not in ("square", "round", "either"):
+        raise InputError(f"--shape must be square, round or either, got {chosen!r}")
+    shapes = ("square", "round") if chosen == "either" else (chosen,)
+    if not site.supplies:
+        raise InputError(f"{where}: no [[supply]] table; the planner needs the supplies that drive the axes")
+    for i, s in enumerate(site.supplies):
+        validate_supply(s, f"{where}: supply[{i}] (axis {s.axis})")
+    try:
+        supplies = tuple(supply_for_axis(site.supplies, a) for a in AXES)
+    except InputError as exc:
+        raise InputError(f"{where}: {exc}") from None
+    wires = []
+    for name in site.coil.wires:
+        try:
+            wires.append(wire_from_name(name).name)
+        except InputError as exc:
+            raise InputError(f"{where}: coil.wires: {exc}") from None
+    if max_field_step_nT is not None and not (math.isfinite(max_field_step_nT) and max_field_step_nT > 0):
+        raise InputError(f"--max-field-step-nT must be a positive number, got {max_field_step_nT!r}")
+    coil = site.coil
+    return PlanInputs(
+        test_volume_m=tuple(req.test_volume_m),
+        uniformity=req.uniformity,
+        ambient_cage_nT=tuple(float(v) for v in ambient_cage_nT),
+        extra_field_nT=tuple(1000.0 * v for v in req.extra_field_uT),
+        shapes=shapes,
+        wires=tuple(dict.fromkeys(wires)),
+        supplies=supplies,
+        frame=FrameSpec(coil.frame_width_m, coil.frame_depth_m, coil.frame_gap_m),
+        room=site.room,
+        lead_length_m=coil.lead_length_m,
+        ambient_temperature_C=coil.ambient_temperature_C,
+        max_winding_temperature_C=coil.max_winding_temperature_C,
+        axis_order=coil.axis_order,
+        spacing=spacing,
+        minimise=minimise,
+        max_field_step_nT=max_field_step_nT,
+    )
+
+
+# ----------------------------------------------------------------------------- uniformity
+
+def _box_for_axis(test_volume_m) -> np.ndarray:
+    return np.asarray(test_volume_m, dtype=float)
+
+
+def _deviation(axis: str, shape: str, size_m: float, ratio: float, box: np.ndarray) -> float:
+    from cage.uniformity import box_deviation
+
+    pair = CoilPair(axis, shape, size_m, ratio * size_m, 1)
+    return box_deviation(pair, box, n_per_edge=UNIFORMITY_GRID)
+
+
+def _box_clear_size_m(axis: str, shape: str, ratio: float, box: np.ndarray) -> float:
+    """Smallest size whose wires stay outside the test box (any smaller is meaningless)."""
+    a = AXES.index(axis)
+    half = box / 2.0
+    lateral = max(half[(a + 1) % 3], half[(a + 2) % 3])
+    # square: half side > lateral half-extent (the box fits through the coil aperture);
+    # round: radius > the box's transverse half-diagonal.
+    if shape == "square":
+        need = 2.0 * lateral
+    else:
+        need = math.hypot(half[(a + 1) % 3], half[(a + 2) % 3])
+    # The coil planes must also lie outside the box along the axis: ratio x size / 2 > half[a].
+    return max(need, 2.0 * half[a] / ratio) * 1.001
+
+
+def _best_ratio(axis: str, shape: str, size_m: float, box: np.ndarray) -> tuple[float, float]:
+    """Spacing/size that minimises the box deviation at this size (free spacing)."""
+    from scipy.optimize import minimize_scalar
+
+    flat = flat_spacing_m(shape, 1.0)
+    lo = max(0.5 * flat, 1.0001 * box[AXES.index(axis)] / size_m)
+    hi = 1.6 * flat
+    if lo >= hi:
+        return flat, math.inf
+    res = minimize_scalar(lambda r: _deviation(axis, shape, size_m, r, box), bounds=(lo, hi),
+                          method="bounded", options={"xatol": 1e-4})
+    return float(res.x), float(res.fun)
+
+
+def min_uniform_size_m(axis: str, shape: str, test_volume_m, tolerance: float,
+                       spacing: str = "flat") -> tuple[float, float]:
+    """Smallest pair size (side or radius, m) meeting ``tolerance`` over the test box, and the
+    spacing/size ratio used. Bisection on the exact field; raises InfeasibleError beyond 50 m."""
+    box = _box_for_axis(test_volume_m)
+    flat = flat_spacing_m(shape, 1.0)
+
+    def dev(size: float) -> tuple[float, float]:
+        if spacing == "free":
+            ratio, d = _best_ratio(axis, shape, size, box)
+            return d, ratio
+        if size <= _box_clear_size_m(axis, shape, flat, box):
+            return math.inf, flat
+        return _deviation(axis, shape, size, flat, box), flat
+
+    lo = _box_clear_size_m(axis, shape, flat if spacing == "flat" else 0.5 * flat, box)
+    hi = lo
+    d, ratio = dev(hi)
+    while d > tolerance:
+        lo, hi = hi, hi * 1.25
+        if hi > MAX_SIZE_M:
+            raise InfeasibleError(
+                f"no {shape} {axis} pair up to {MAX_SIZE_M:g} m gives {_pct(tolerance)} uniformity over the "
+                f"{_box(test_volume_m)} test volume")
+        d, ratio = dev(hi)
+    while hi - lo > SIZE_PRECISION * hi:
+        mid = 0.5 * (lo + hi)
+        dm, rm = dev(mid)
+        if dm <= tolerance:
+            hi, ratio = mid, rm
+        else:
+            lo = mid
+    return hi, ratio
+
+
+# ----------------------------------------------------------------------------- windings
+
+@dataclass(frozen=True)
+class _WindingResult:
+    plan: AxisPlan | None
+    reason: str
+    badness: float  # how far the closest try missed (1 = at the limit)
+
+
+def _field_per_amp_per_turn_T(pair: CoilPair) -> float:
+    from cage.coils import pair_field_T
+
+    one = CoilPair(pair.axis, pair.shape, pair.size_m, pair.spacing_m, 1)
+    return float(pair_field_T(one, 1.0, np.zeros((1, 3)))[0, AXES.index(pair.axis)])
+
+
+def _wire_label(inp: PlanInputs) -> str:
+    return f"{inp.frame.width_m * 1000:g} x {inp.frame.depth_m * 1000:g} mm frame channel"
+
+
+def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_size: float) -> _WindingResult:
+    """Best wire and turns for one axis of given shape, size and spacing (see module docstring)."""
+    from cage.electrical import axis_electrics, max_turns
+    from cage.uniformity import box_deviation
+
+    a = AXES.index(axis)
+    supply = inp.supplies[a]
+    need_nT = float(inp.needed_field_nT[a])
+    need_T = need_nT * 1e-9
+    k1 = _field_per_amp_per_turn_T(geometry)
+    best: AxisPlan | None = None
+    best_key = None
+    closest = (math.inf, "")
+
+    for wire in inp.wires:
+        n_fit = max_turns(wire, inp.frame.width_m, inp.frame.depth_m)
+        n_cur = max(1, math.ceil(need_T / (k1 * supply.max_current_A) - 1e-9))
+        if inp.max_field_step_nT is not None:
+            n_res = math.floor(inp.max_field_step_nT * 1e-9 / (k1 * supply.resolution_A))
+            res_text = f"keep the field step under {inp.max_field_step_nT:g} nT"
+        else:
+            n_res = math.floor(need_T / (k1 * MIN_CURRENT_FRACTION * supply.max_current_A))
+            res_text = f"keep the full-range current above {MIN_CURRENT_FRACTION:.0%} of the supply's"
+        n_hi = min(n_fit, n_res)
+        if n_cur > n_fit:
+            badness = n_cur / max(n_fit, 1)
+            if badness < closest[0]:
+                closest = (badness,
+                           f"the {axis} axis needs {need_nT / 1000:.1f} uT; within the supply's "
+                           f"{supply.max_current_A:g} A that takes at least {n_cur} turns of {wire} per coil, "
+                           f"but only {n_fit} fit the {_wire_label(inp)}")
+            continue
+        if n_cur > n_hi:
+            badness = 1.0 + (n_cur - n_hi) / max(n_hi, 1)
+            if badness < closest[0]:
+                closest = (badness,
+                           f"the {axis} axis needs {need_nT / 1000:.1f} uT; reaching it within the supply's "
+                           f"{supply.max_current_A:g} A takes {n_cur} turns of {wire}, too many to {res_text} "
+                           f"(at most {n_hi})")
+            continue
+
+        def evaluate(n: int):
+            pair = CoilPair(axis, geometry.shape, geometry.size_m, geometry.spacing_m, n)
+            current = need_T / (k1 * n)
+            el = axis_electrics(pair, wire, current, lead_length_m=inp.lead_length_m,
+                                frame_width_m=inp.frame.width_m, frame_depth_m=inp.frame.depth_m,
+                                ambient_temperature_C=inp.ambient_temperature_C)
+            drive = check_drive(supply, current, el.resistance_hot_ohm, el.lead_resistance_ambient_ohm)
+            hot_ok = el.temperature_converged and el.winding_temperature_C <= inp.max_winding_temperature_C
+            return pair, current, el, drive, drive.within_limits and hot_ok
+
+        top = evaluate(n_hi)
+        if not top[4]:
+            _, current, el, drive, _ = top
+            if not el.temperature_converged or el.winding_temperature_C > inp.max_winding_temperature_C:
+                rise = inp.max_winding_temperature_C - inp.ambient_temperature_C
+                t = el.winding_temperature_C
+                badness = math.inf if not math.isfinite(t) else 1.0 + (t - inp.max_winding_temperature_C) / rise
+                hot = "would run away thermally" if not math.isfinite(t) else f"would reach {t:.0f} C"
+                text = (f"the {axis} axis needs {need_nT / 1000:.1f} uT; with {n_hi} turns of {wire} "
+                        f"(the most allowed) at {current:.2f} A the winding {hot}, over the "
+                        f"{inp.max_winding_temperature_C:g} C limit")
+            else:
+                badness = abs(drive.voltage_V) / supply.max_voltage_V
+                text = (f"the {axis} axis needs {need_nT / 1000:.1f} uT; with {n_hi} turns of {wire} "
+                        f"(the most allowed) that takes {current:.2f} A at {abs(drive.voltage_V):.1f} V "
+                        f"with the winding at {el.winding_temperature_C:.0f} C, more than the supply's "
+                        f"{supply.max_voltage_V:g} V")
+            if badness < closest[0]:
+                closest = (badness, text)
+            continue
+        if inp.minimise == "mass":
+            lo, hi = n_cur - 1, n_hi  # hi feasible; find the fewest feasible turns
+            chosen = top
+            while hi - lo > 1:
+                mid = (lo + hi) // 2
+                trial = evaluate(mid)
+                if trial[4]:
+                    hi, chosen = mid, trial
+                else:
+                    lo = mid
+        else:
+            chosen = top
+        pair, current, el, drive, _ = chosen
+        key = (el.copper_mass_kg, drive.power_W) if inp.minimise == "mass" else (drive.power_W, el.copper_mass_kg)
+        if best_key is None or key < best_key:
+            k1_nT = k1 * pair.turns * 1e9
+            best_key = key
+            best = AxisPlan(
+                pair=pair, wire=wire, electrics=el, supply=supply, drive=drive, needed_field_nT=need_nT,
+                full_current_A=current, field_per_amp_nT=k1_nT, field_step_nT=field_step_nT(supply, k1_nT),
+                uniformity_reached=box_deviation(pair, inp.test_volume_m, n_per_edge=UNIFORMITY_GRID),
+                min_uniform_size_m=min_uniform_size,
+            )
+    if best is not None:
+        return _WindingResult(best, "", 0.0)
+    if not inp.wires:
+        return _WindingResult(None, "no wires are allowed (coil.wires is empty)", math.inf)
+    return _WindingResult(None, closest[1], closest[0])
+
+
+# ----------------------------------------------------------------------------- the search
+
+def _pct(tolerance: float) -> str:
+    return f"{tolerance * 100:g} %"
+
+
+def _box(test_volume_m) -> str:
+    return " x ".join(f"{v:g}" for v in test_volume_m) + " m"
+
+
+def _size_name(shape: str) -> str:
+    return "side" if shape == "square" else "radius"
+
+
+def plan_cage(inp: PlanInputs) -> Plan:
+    """The best cage for the inputs, or InfeasibleError naming the binding constraint."""
+    if inp.minimise not in OBJECTIVES:
+        raise InputError(f"minimise must be one of {', '.join(OBJECTIVES)}, got {inp.minimise!r}")
+    frame = inp.frame
+    inner_room = None if inp.room is None else room_inner_m(inp.room)
+
+    # 1. Smallest uniform size per axis and shape.
+    uniform: dict[tuple[str, str], tuple[float, float]] = {}
+    for axis in AXES:
+        for shape in inp.shapes:
+            uniform[(axis, shape)] = min_uniform_size_m(axis, shape, inp.test_volume_m, inp.uniformity, inp.spacing)
+
+    # A pair alone must fit the room: the plainest binding constraint.
+    if inner_room is not None:
+        for axis in AXES:
+            misses = []
+            for shape in inp.shapes:
+                size, ratio = uniform[(axis, shape)]
+                ext = 2.0 * pair_extent_m(CoilPair(axis, shape, size, ratio * size, 1), frame)
+                over = ext / inner_room
+                k = int(np.argmax(over))
+                misses.append((over[k], shape, size, ext[k], k))
+            if all(m[0] > 1.0 + 1e-12 for m in misses):
+                over, shape, size, ext_k, k = min(misses)
+                names = ("length", "width", "height")
+                raise InfeasibleError(
+                    f"a {_box(inp.test_volume_m)} test volume at {_pct(inp.uniformity)} needs a {shape} {axis} pair of "
+                    f"at least {size:.2f} m {_size_name(shape)}, {ext_k:.2f} m over the frames along "
+                    f"{AXES[k]}, while the room allows {inner_room[k]:.2f} m (room {names[k]} less "
+                    f"{inp.room.clearance_m:g} m clearance each side)")
+
+    orders = [inp.axis_order] if inp.axis_order else list(itertools.permutations(AXES))
+    nest_cache: dict = {}
+
+    def nested_size(axis: str, shape: str, inner: tuple[CoilPair, ...]) -> float:
+        key = (axis, shape, inner)
+        if key not in nest_cache:
+            size, ratio = uniform[(axis, shape)]
+            try:
+                nest_cache[key] = smallest_nesting_size_m(axis, shape, list(inner), frame, size,
+                                                          spacing_per_size=ratio, upper_m=MAX_SIZE_M)
+            except ValueError:
+                nest_cache[key] = math.inf
+        return nest_cache[key]
+
+    candidates = []
+    room_misses = []
+    for order in orders:
+        for shapes in itertools.product(inp.shapes, repeat=3):
+            shape_of = dict(zip(order, shapes))
+            placed: list[CoilPair] = []
+            for axis in reversed(order):  # innermost first
+                shape = shape_of[axis]
+                size = nested_size(axis, shape, tuple(placed))
+                if not math.isfinite(size):
+                    break
+                ratio = uniform[(axis, shape)][1]
+                placed.append(CoilPair(axis, shape, size, ratio * size, 1))
+            if len(placed) < 3:
+                continue
+            by_axis = {p.axis: p for p in placed}
+            cage = CoilCage(by_axis["x"], by_axis["y"], by_axis["z"])
+            layout = check_layout(cage, frame, inp.room)
+            if not layout.fits_room:
+                over = np.array(layout.envelope_m) / np.array(layout.room_inner_m)
+                room_misses.append((float(np.max(over)), order, layout))
+                continue
+            candidates.append((order, cage, layout))
+
+    if not candidates:
+        over, order, layout = min(room_misses, key=lambda m: m[0])
+        env = " x ".join(f"{v:.2f}" for v in layout.envelope_m)
+        room = " x ".join(f"{v:.2f}" for v in layout.room_inner_m)
+        raise InfeasibleError(
+            f"nesting the three pairs (outermost {order[0]}, then {order[1]}, {order[2]}) for a "
+            f"{_box(inp.test_volume_m)} test volume at {_pct(inp.uniformity)} needs an envelope of {env} m "
+            f"(x, y, z), while the room less its clearance allows {room} m")
+
+    winding_cache: dict = {}
+    best = None
+    best_key = None
+    failures = []
+    for index, (order, cage, layout) in enumerate(candidates):
+        axes = []
+        for pair in cage.pairs:
+            key = (pair.axis, pair.shape, pair.size_m, pair.spacing_m)
+            if key not in winding_cache:
+                winding_cache[key] = choose_winding(pair.axis, pair, inp, uniform[(pair.axis, pair.shape)][0])
+            result = winding_cache[key]
+            if result.plan is None:
+                failures.append((result.badness, result.reason))
+                break
+            axes.append(result.plan)
+        if len(axes) < 3:
+            continue
+        power = sum(a.drive.power_W for a in axes)
+        mass = sum(a.electrics.copper_mass_kg for a in axes)
+        volume = float(np.prod(layout.envelope_m))
+        if inp.minimise == "power":
+            key = (round(power, 9), round(volume, 12), index)
+        elif inp.minimise == "mass":
+            key = (round(mass, 9), round(volume, 12), index)
+        else:
+            key = (round(volume, 12), round(power, 9), index)
+        if best_key is None or key < best_key:
+            best_key, best = key, (order, tuple(axes), layout, power, mass)
+    if best is None:
+        badness, reason = min(failures, key=lambda f: f[0])
+        raise InfeasibleError(reason)
+    order, axes, layout, power, mass = best
+    return Plan(axes=axes, layout=layout, order=tuple(order) if inp.axis_order else layout.order,
+                minimise=inp.minimise, spacing=inp.spacing, total_power_W=power, copper_mass_kg=mass,
+                warnings=tuple(plan_warnings(axes, inp)))
+
+
+def plan_warnings(axes, inp: PlanInputs) -> list[str]:
+    """Cautions worth showing for a plan: hot windings, high current density, polarity switches."""
+    out = []
+    for a in axes:
+        el = a.electrics
+        if el.current_density_high:
+            out.append(f"axis {a.pair.axis}: current density {el.current_density_A_per_mm2:.1f} A/mm^2 at full range "
+                       f"is above the common air-cooled limit of about 3 A/mm^2")
+        if el.winding_temperature_C > inp.max_winding_temperature_C - 5.0:
+            out.append(f"axis {a.pair.axis}: the winding reaches {el.winding_temperature_C:.0f} C at full range, "
+                       f"close to the {inp.max_winding_temperature_C:g} C limit; check it on the built coil")
+        if abs(a.drive.voltage_V) > 50.0:
+            out.append(f"axis {a.pair.axis}: {abs(a.drive.voltage_V):.0f} V at full range; above about 50 V DC "
+                       f"touch protection is required by most electrical codes")
+        if not a.supply.bipolar:
+            out.append(f"axis {a.pair.axis}: the supply is unipolar; negative currents need a polarity switch "
+                       f"(switch only at zero current: the coil's stored energy arcs otherwise)")
+    return out
+
+
+# ----------------------------------------------------------------------------- design file
+
+def design_from_plan(plan: Plan, inp: PlanInputs, site=None, ambient=None):
+    """The :class:`cage.designfile.Design` of a plan, with the requirement and layout it was made for."""
+    from cage.designfile import AxisDesign, Design
+
+    axes = []
+    for a in plan.axes:
+        el = a.electrics
+        axes.append(AxisDesign(
+            pair=a.pair, wire=a.wire,
+            resistance_20C_ohm=el.resistance_20C_ohm,
+            resistance_hot_ohm=el.resistance_hot_ohm,
+            inductance_H=el.inductance_H,
+            time_constant_s=el.time_constant_s if el.time_constant_s > 0 else None,
+            copper_mass_kg=el.copper_mass_kg,
+            field_per_amp_nT=a.field_per_amp_nT,
+            max_current_A=a.full_current_A,
+            winding_temperature_C=el.winding_temperature_C if el.winding_temperature_C > 0 else None,
+            current_density_A_per_mm2=el.current_density_A_per_mm2,
+            lead_length_m=inp.lead_length_m if inp.lead_length_m > 0 else None,
+            frame_width_m=inp.frame.width_m,
+            frame_depth_m=inp.frame.depth_m,
+        ))
+    lay = plan.layout
+    site_obj = None
+    if site is not None:
+        loc, ori = site.location, site.orientation
+        site_obj = {
+            "name": site.name, "file": site.source, "date": site.date.isoformat(),
+            "latitude_deg": loc.latitude_deg, "longitude_deg": loc.longitude_deg, "altitude_m": loc.altitude_m,
+            "heading_deg": ori.heading_deg, "heading_reference": ori.heading_reference,
+        }
+        if ambient is not None:
+            site_obj["heading_true_deg"] = ambient.heading_true_deg
+            site_obj["ambient_cage_nT"] = [float(v) for v in ambient.in_force_cage_nT]
+            site_obj["ambient_source"] = ambient.source
+        if site.room is not None:
+            r = site.room
+            site_obj["room_m"] = [r.length_m, r.width_m, r.height_m]
+            site_obj["room_clearance_m"] = r.clearance_m
+    requirement = {
+        "test_volume_m": list(inp.test_volume_m),
+        "uniformity": inp.uniformity,
+        "extra_field_nT": list(inp.extra_field_nT),
+        "needed_field_nT": [float(v) for v in inp.needed_field_nT],
+        "shapes": list(inp.shapes),
+        "wires": list(inp.wires),
+        "minimise": inp.minimise,
+        "spacing": inp.spacing,
+        "max_winding_temperature_C": inp.max_winding_temperature_C,
+        "ambient_temperature_C": inp.ambient_temperature_C,
+        "supplies": {ax: {"name": s.name, "max_voltage_V": s.max_voltage_V, "max_current_A": s.max_current_A,
+                          "resolution_A": s.resolution_A, "bipolar": s.bipolar}
+                     for ax, s in zip(AXES, inp.supplies)},
+    }
+    if inp.max_field_step_nT is not None:
+        requirement["max_field_step_nT"] = inp.max_field_step_nT
+    layout = {
+        "order_outermost_first": list(plan.order),
+        "min_centreline_distance_m": lay.min_distance_m,
+        "frame_clearance_m": lay.clearance_m,
+        "closest_axes": list(lay.closest_axes),
+        "frame_width_m": inp.frame.width_m,
+        "frame_depth_m": inp.frame.depth_m,
+        "frame_gap_m": inp.frame.gap_m,
+        "fits_room": lay.fits_room,
+        "total_power_W": plan.total_power_W,
+        "copper_mass_kg": plan.copper_mass_kg,
+        "uniformity_reached": [a.uniformity_reached for a in plan.axes],
+        "full_range_voltage_V": [abs(a.drive.voltage_V) for a in plan.axes],
+        "full_range_power_W": [a.drive.power_W for a in plan.axes],
+        "field_step_nT": [a.field_step_nT for a in plan.axes],
+    }
+    if lay.room_inner_m is not None:
+        layout["room_inner_m"] = list(lay.room_inner_m)
+    return Design(axes=tuple(axes), site=site_obj, requirement=requirement, layout=layout,
+                  envelope_m=list(lay.envelope_m),
+                  notes="Planned by cage. Filament model of the windings; survey the built cage before use.")
