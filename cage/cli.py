@@ -361,6 +361,247 @@ def compare(
         _say(f"Wrote {plot}")
 
 
+# ----------------------------------------------------------------------------- setpoints
+
+def _design_supplies(design):
+    """Supplies recorded in a design file at planning time (used when no site file gives them)."""
+    from cage.supplies import Supply, validate_supply
+
+    rec = (design.requirement or {}).get("supplies")
+    if not isinstance(rec, dict):
+        return None
+    out = []
+    for axis in "xyz":
+        d = rec.get(axis)
+        if not isinstance(d, dict):
+            return None
+        try:
+            s = Supply(axis=axis, max_voltage_V=float(d["max_voltage_V"]), max_current_A=float(d["max_current_A"]),
+                       resolution_A=float(d.get("resolution_A", 0.001)), bipolar=bool(d.get("bipolar", True)),
+                       name=str(d.get("name", "")))
+        except (KeyError, TypeError, ValueError):
+            raise InputError(f"design file: requirement.supplies.{axis} is malformed") from None
+        out.append(validate_supply(s, f"design file: requirement.supplies.{axis}"))
+    return tuple(out)
+
+
+def _number_list(value, n=3):
+    try:
+        out = [float(v) for v in value]
+    except (TypeError, ValueError):
+        return None
+    return out if len(out) == n and all(v == v and abs(v) != float("inf") for v in out) else None
+
+
+def build_setpoints(design, site, *, targets_file=None, calibration_file=None):
+    """The setpoint table of a design at a site (model, survey, or calibration), with warnings."""
+    import numpy as np
+
+    from cage.ambient import site_ambient
+    from cage.frames import ned_to_cage
+    from cage.setpoints import reuse_warnings, setpoint_table, standard_targets
+    from cage.supplies import supply_for_axis, validate_supply
+
+    amb = site_ambient(site)
+    warnings = [amb.earth.warning] if amb.earth.warning else []
+    if site.supplies:
+        for i, s in enumerate(site.supplies):
+            validate_supply(s, f"{site.source}: supply[{i}] (axis {s.axis})")
+        try:
+            supplies = tuple(supply_for_axis(site.supplies, a) for a in "xyz")
+        except InputError as exc:
+            raise InputError(f"{site.source}: {exc}") from None
+    else:
+        supplies = _design_supplies(design)
+        if supplies is None:
+            raise InputError("no supplies: give a site file with [[supply]] tables (the design file records none)")
+    req = design.requirement or {}
+    if site.source != "command line":
+        extra_nT = [1000.0 * v for v in site.requirement.extra_field_uT]
+        ambient_C = site.coil.ambient_temperature_C
+        max_C = site.coil.max_winding_temperature_C
+    else:
+        extra_nT = _number_list(req.get("extra_field_nT")) or [1000.0 * v for v in site.requirement.extra_field_uT]
+        ambient_C = float(req.get("ambient_temperature_C", 22.0))
+        max_C = float(req["max_winding_temperature_C"]) if "max_winding_temperature_C" in req else None
+    targets = standard_targets(extra_nT)
+    if targets_file is not None:
+        from cage.targetfile import read_targets_csv
+
+        for t in read_targets_csv(targets_file):
+            field_nT = 1000.0 * np.array(t.field_uT)
+            if t.frame == "ned":
+                field_nT = ned_to_cage(field_nT, amb.heading_true_deg)
+            targets.append((t.label, field_nT))
+    coupling = None
+    ambient_nT = amb.in_force_cage_nT
+    source = amb.source
+    if calibration_file is not None:
+        from cage.calibrationfile import load_calibration
+
+        fit = load_calibration(calibration_file)
+        coupling, ambient_nT, source = fit.coupling_nT_per_A, fit.offset_nT, "calibration"
+    warnings += reuse_warnings(design, supplies, site.room)
+    table = setpoint_table(design, ambient_nT, supplies, targets, site=site.name, date=site.date, source=source,
+                           coupling_nT_per_A=coupling, ambient_temperature_C=ambient_C,
+                           max_winding_temperature_C=max_C, warnings=warnings)
+    bad = [r.label for r in table.rows if not r.within_limits]
+    if bad:
+        table = dataclasses_replace(table, warnings=table.warnings + (
+            f"rows outside the supplies' limits (flagged, not clipped): {', '.join(bad)}",))
+    return amb, table
+
+
+def dataclasses_replace(obj, **changes):
+    import dataclasses
+
+    return dataclasses.replace(obj, **changes)
+
+
+def setpoints_text(table) -> str:
+    """A readable table of the setpoints (rounded; the files keep full precision)."""
+    lines = [f"Current table for {table.site} ({table.source} field, {table.date})",
+             "ambient (cage frame): " + ", ".join(f"{a} {v:,.1f} nT" for a, v in zip("xyz", table.ambient_cage_nT)),
+             "",
+             f"{'row':<10}{'target x, y, z (uT)':>26}{'I x (A)':>10}{'I y (A)':>10}{'I z (A)':>10}"
+             f"{'V max (V)':>10}{'power (W)':>10}{'rounding (nT)':>14}  limits"]
+    for r in table.rows:
+        target = ", ".join(f"{v / 1000:.2f}" for v in r.target_cage_nT)
+        cur = "".join(f"{a.setpoint_A:>10.{_decimals_for(s)}f}" for a, s in zip(r.axes, table.supplies))
+        volts = [abs(a.voltage_V) for a in r.axes if a.voltage_V is not None]
+        vmax = f"{max(volts):>10.2f}" if volts else f"{'-':>10}"
+        power = f"{r.total_power_W:>10.1f}" if r.total_power_W is not None else f"{'-':>10}"
+        flag = "ok" if r.within_limits else "OUTSIDE: " + "; ".join(
+            f"{ax}: {p}" for ax, a in zip("xyz", r.axes) for p in a.problems)
+        switch = [ax for ax, a in zip("xyz", r.axes) if a.polarity_switch]
+        if switch:
+            flag += f" (reverse polarity on {', '.join(switch)})"
+        lines.append(f"{r.label:<10}{target:>26}{cur}{vmax}{power}{r.rounding_error_nT:>14.1f}  {flag}")
+    return "\n".join(lines)
+
+
+def _decimals_for(supply) -> int:
+    from cage.setpointfile import _decimals
+
+    return _decimals(supply.resolution_A)
+
+
+def _infer_format(fmt: Optional[str], out: Optional[Path]) -> str:
+    if fmt is not None:
+        if fmt not in ("table", "csv", "json", "scpi"):
+            raise InputError(f"--format must be table, csv, json or scpi, got {fmt!r}")
+        return fmt
+    if out is not None:
+        ext = out.suffix.lower().lstrip(".")
+        return ext if ext in ("csv", "json", "scpi") else "csv"
+    return "table"
+
+
+def drift_text(drift) -> str:
+    lines = ["Null currents against the previous table" +
+             (f" ({drift.previous_date})" if drift.previous_date else "") + ":"]
+    for a, di, df in zip("xyz", drift.change_A, drift.change_field_nT):
+        lines.append(f"  {a}: {di * 1000:+.3f} mA  (field {df:+.1f} nT)")
+    sv = ", ".join(f"{a} {v:+.1f}" for a, v in zip("xyz", drift.sv_cage_nT_per_year))
+    lines.append(f"Secular variation (cage frame): {sv} nT/year")
+    days = drift.days_until_threshold
+    when = "never (no secular variation)" if days == float("inf") else f"in about {days:.0f} days"
+    lines.append(f"The null drifts by {drift.threshold_nT:g} nT {when}; per axis: " + ", ".join(
+        f"{a} {'never' if d == float('inf') else f'{d:.0f} d'}" for a, d in zip("xyz", drift.days_until_threshold_per_axis)))
+    return "\n".join(lines)
+
+
+@app.command()
+def setpoints(
+    design_file: Path = typer.Argument(..., help="Design file (JSON) from cage design.", show_default=False),
+    site_file: Optional[Path] = SiteArg,
+    lat: Optional[float] = LatOpt,
+    lon: Optional[float] = LonOpt,
+    alt_m: Optional[float] = AltOpt,
+    date: Optional[str] = DateOpt,
+    heading_deg: Optional[float] = HeadingOpt,
+    heading_magnetic: bool = MagneticOpt,
+    targets: Optional[Path] = typer.Option(None, "--targets", help="CSV of extra targets: label,x_uT,y_uT,z_uT[,frame]."),
+    fmt: Optional[str] = typer.Option(None, "--format", help="table, csv, json or scpi (default: from --out, else table)."),
+    out: Optional[Path] = typer.Option(None, "--out", help="File to write (atomically) instead of printing."),
+    previous: Optional[Path] = typer.Option(None, "--previous", help="An earlier setpoints JSON: show the null's drift."),
+    drift_threshold_nT: float = typer.Option(10.0, "--drift-threshold-nT", help="Drift that calls for a new table (nT)."),
+    calibration: Optional[Path] = typer.Option(None, "--calibration",
+                                               help="Calibration file from cage calibrate: its coupling and offset."),
+):
+    """Signed supply currents for nulling and test fields, with voltage and power budgets."""
+    from cage.atomicfile import write_text
+    from cage.designfile import load_design
+    from cage.setpointfile import load_table_json, render
+
+    design_obj = load_design(design_file)
+    site = _resolve_site(site_file, lat, lon, alt_m, date, heading_deg, heading_magnetic)
+    kind = _infer_format(fmt, out)
+    old = load_table_json(previous) if previous is not None else None
+    if not (drift_threshold_nT > 0 and drift_threshold_nT < 1e6):
+        raise InputError(f"--drift-threshold-nT must be a positive number of nT, got {drift_threshold_nT:g}")
+    amb, table = build_setpoints(design_obj, site, targets_file=targets, calibration_file=calibration)
+    for w in table.warnings:
+        _warn(w)
+    text = setpoints_text(table) + "\n" if kind == "table" else render(table, kind)
+    if out is not None:
+        write_text(out, text)
+        _say(f"Wrote {out} ({kind}, {len(table.rows)} rows)")
+    else:
+        typer.echo(text, nl=False)
+    if old is not None:
+        from cage.setpoints import null_drift
+
+        drift = null_drift(table, old, amb.sv_cage_nT_per_year, drift_threshold_nT)
+        typer.echo(drift_text(drift), err=out is None and kind != "table")
+
+
+# ----------------------------------------------------------------------------- plan
+
+@app.command()
+def plan(
+    site_file: Path = typer.Argument(..., help="Site file (TOML).", show_default=False),
+    out: Path = typer.Option(..., "--out", help="Folder for field.json, design.json, setpoints.* (made if absent)."),
+    shape: Optional[str] = typer.Option(None, "--shape", help=SHAPE_HELP),
+    minimise: str = typer.Option("power", "--minimise", help=MINIMISE_HELP),
+    targets: Optional[Path] = typer.Option(None, "--targets", help="CSV of extra targets: label,x_uT,y_uT,z_uT[,frame]."),
+):
+    """The main job: field, design, setpoints (CSV, JSON, SCPI), figures and report, into one folder."""
+    from cage import sitefile
+    from cage.ambient import site_ambient
+    from cage.atomicfile import write_text
+    from cage.designfile import design_to_json
+    from cage.optimise import design_from_plan
+    from cage.setpointfile import render
+
+    site = sitefile.load_site(site_file)
+    if out.exists() and not out.is_dir():
+        raise InputError(f"{out}: exists and is not a folder")
+    amb, inp, plan_obj = _plan_from_site(site, shape, minimise, "flat", None)
+    design_obj = design_from_plan(plan_obj, inp, site, amb)
+    _, table = build_setpoints(design_obj, site, targets_file=targets)
+    texts = {
+        "field.json": _dump_json(field_summary(site, site_ambient(site))),
+        "design.json": design_to_json(design_obj),
+        "setpoints.csv": render(table, "csv"),
+        "setpoints.json": render(table, "json"),
+        "setpoints.scpi": render(table, "scpi"),
+    }
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise InputError(f"{out}: cannot make the folder ({exc.strerror})") from None
+    for name, text in texts.items():
+        write_text(out / name, text)
+    _say(f"Plan for {site.name} ({amb.source} field, {amb.earth.date.isoformat()}) in {out}/")
+    _say(design_table(plan_obj, inp))
+    _say("")
+    _say(setpoints_text(table))
+    for line in _design_cautions(plan_obj, inp) + list(table.warnings):
+        _warn(line)
+    _say("Wrote " + ", ".join(texts))
+
+
 # ----------------------------------------------------------------------------- entry point
 
 def main(argv: Optional[list[str]] = None) -> None:
