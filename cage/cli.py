@@ -602,6 +602,217 @@ def plan(
     _say("Wrote " + ", ".join(texts))
 
 
+# ----------------------------------------------------------------------------- calibrate
+
+def calibration_text(summary: dict) -> str:
+    k = summary["coupling_nT_per_A"]
+    lines = ["Fitted field at the sensor: B = B0 + K I (cage frame)",
+             "  B0 (nT)       " + "".join(f"{v:>14,.1f}" for v in summary["offset_nT"]),
+             "  K (nT/A)      " + "".join(f"{'axis ' + a:>14}" for a in "xyz")]
+    for comp, row in zip("xyz", k):
+        lines.append(f"    B{comp}          " + "".join(f"{v:>14,.1f}" for v in row))
+    lines.append(f"  residual RMS  {summary['rms_residual_nT']:.2f} nT over kept rows "
+                 f"({summary.get('n_rows', '?')} rows, {summary.get('n_outliers', 0)} flagged as outliers)")
+    if summary.get("condition_number") is not None:
+        lines.append(f"  condition of the fit {summary['condition_number']:.2f}")
+    null = summary.get("null_current_A")
+    if isinstance(null, dict) and all(null.get(a) is not None for a in "xyz"):
+        lines.append("Corrected null currents: " + ", ".join(f"{a} {null[a]:+.4f} A" for a in "xyz"))
+    check = summary.get("build_check")
+    if isinstance(check, dict):
+        scale = check.get("scale_error_percent")
+        if scale:
+            lines.append("Built cage against the design: scale error " +
+                         ", ".join(f"{a} {v:+.2f} %" for a, v in zip("xyz", scale)))
+        non = check.get("non_orthogonality_deg")
+        if isinstance(non, dict):
+            lines.append("  non-orthogonality " + ", ".join(f"{k2} {v:+.3f} deg" for k2, v in non.items()))
+        mis = check.get("misalignment_deg")
+        if mis:
+            lines.append("  misalignment from the design axes " + ", ".join(f"{a} {v:.3f} deg" for a, v in zip("xyz", mis)))
+    return "\n".join(lines)
+
+
+@app.command()
+def calibrate(
+    design_file: Path = typer.Argument(..., help="Design file (JSON).", show_default=False),
+    data_file: Path = typer.Argument(..., help="Measurements CSV (current_x_A,...,field_z_nT), or with "
+                                              "--suggest the site file (TOML).", show_default=False),
+    suggest: bool = typer.Option(False, "--suggest", help="Print a current set for a well-conditioned fit instead."),
+    as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of a table."),
+    out: Optional[Path] = typer.Option(None, "--out", help="Calibration file to write (JSON), or with --suggest "
+                                                          "the current set (CSV)."),
+):
+    """Fit the built cage from magnetometer readings: offset, coupling, corrected null currents."""
+    from cage.atomicfile import write_text
+    from cage.designfile import load_design
+    from cage.setpoints import design_coupling_nT_per_A
+
+    design_obj = load_design(design_file)
+    if suggest:
+        from cage import sitefile
+        from cage.calibrate import design_condition_number, suggest_currents_A
+        from cage.supplies import supply_for_axis
+
+        site = sitefile.load_site(data_file)
+        if not site.supplies:
+            raise InputError(f"{data_file}: no [[supply]] table; --suggest needs the supplies' limits")
+        try:
+            supplies = [supply_for_axis(site.supplies, a) for a in "xyz"]
+        except InputError as exc:
+            raise InputError(f"{data_file}: {exc}") from None
+        currents = suggest_currents_A([s.max_current_A for s in supplies],
+                                      unipolar=[not s.bipolar for s in supplies])
+        text = "current_x_A,current_y_A,current_z_A\n" + "".join(
+            ",".join(f"{v:.4f}" for v in row) + "\n" for row in currents)
+        if out is not None:
+            write_text(out, text)
+            _say(f"Wrote {out} ({len(currents)} current sets, condition {design_condition_number(currents):.2f})")
+        else:
+            typer.echo(text, nl=False)
+            _warn(f"{len(currents)} current sets within 80 % of the supply limits; condition of the fit "
+                  f"{design_condition_number(currents):.2f}. Record the field at each, in the cage frame.")
+        return
+    from cage.calibrate import build_check, calibration_summary, fit_calibration
+    from cage.calibrationfile import save_calibration
+    from cage.measurements import read_calibration_csv
+
+    readings = read_calibration_csv(data_file)
+    fit = fit_calibration(readings.currents_A, readings.field_nT, source_file=str(data_file))
+    check = build_check(fit, design_coupling_nT_per_A(design_obj))
+    summary = calibration_summary(fit, check, readings.line_numbers)
+    if out is not None:
+        save_calibration(out, fit, source_file=str(data_file), design=str(design_file))
+    if as_json:
+        typer.echo(_dump_json(summary), nl=False)
+    else:
+        _say(calibration_text(summary))
+        if out is not None:
+            _say(f"Wrote {out}; use it with: cage setpoints {design_file} SITE.toml --calibration {out}")
+
+
+# ----------------------------------------------------------------------------- sequence
+
+def _axis_circuits(design_obj, supplies, ambient_C):
+    """Per axis: circuit resistance at full-range temperature (winding + leads) and inductance."""
+    import numpy as np
+
+    from cage.electrical import axis_electrics
+
+    r, ind = [], []
+    for a, s in zip(design_obj.axes, supplies):
+        if a.inductance_H is None:
+            raise InputError(f"design file: axes.{a.pair.axis}.inductance_H is missing; a sequence needs it "
+                             f"(make the design with cage design)")
+        if a.wire is not None and a.frame_width_m is not None and a.frame_depth_m is not None:
+            el = axis_electrics(a.pair, a.wire, a.max_current_A or s.max_current_A,
+                                lead_length_m=a.lead_length_m or 0.0, frame_width_m=a.frame_width_m,
+                                frame_depth_m=a.frame_depth_m, ambient_temperature_C=ambient_C)
+            r.append(el.circuit_resistance_ohm)
+        elif a.resistance_hot_ohm is not None:
+            r.append(a.resistance_hot_ohm)
+        else:
+            raise InputError(f"design file: axes.{a.pair.axis} has neither wire nor resistance_hot_ohm")
+        ind.append(a.inductance_H)
+    return np.array(r), np.array(ind)
+
+
+@app.command()
+def sequence(
+    design_file: Path = typer.Argument(..., help="Design file (JSON).", show_default=False),
+    site_file: Path = typer.Argument(..., help="Site file (TOML).", show_default=False),
+    sphere: Optional[int] = typer.Option(None, "--sphere", help="N field directions spread evenly over the sphere."),
+    magnitude_uT: Optional[float] = typer.Option(None, "--magnitude-uT", help="Field magnitude for --sphere (uT)."),
+    series: Optional[Path] = typer.Option(None, "--series", help="Time series CSV t_s,x_nT,y_nT,z_nT[,frame]."),
+    series_frame: Optional[str] = typer.Option(None, "--series-frame", help="cage or ned, for a series without a "
+                                                                            "frame column (default cage)."),
+    rate_Hz: float = typer.Option(10.0, "--rate-Hz", help="Supply update rate the series is resampled to (Hz)."),
+    fmt: Optional[str] = typer.Option(None, "--format", help="table, csv, json or scpi (default: from --out, else table)."),
+    out: Optional[Path] = typer.Option(None, "--out", help="File to write (atomically) instead of printing."),
+    calibration: Optional[Path] = typer.Option(None, "--calibration", help="Calibration file from cage calibrate."),
+):
+    """Setpoint tables for a sphere of field directions or a replayed time series of fields."""
+    import dataclasses
+
+    import numpy as np
+
+    from cage import sitefile
+    from cage.atomicfile import write_text
+    from cage.designfile import load_design
+    from cage.setpointfile import render
+
+    if (sphere is None) == (series is None):
+        raise InputError("give exactly one of --sphere N (with --magnitude-uT) or --series FILE.csv")
+    design_obj = load_design(design_file)
+    site = sitefile.load_site(site_file)
+    kind = _infer_format(fmt, out)
+    amb0, base = build_setpoints(design_obj, site, calibration_file=calibration)
+    from cage.frames import ned_to_cage
+    from cage.setpoints import setpoint_table
+
+    dt = None
+    if sphere is not None:
+        from cage.sequence import fibonacci_sphere
+
+        if magnitude_uT is None or not (0 < magnitude_uT <= 100_000):
+            raise InputError("--sphere needs --magnitude-uT, a positive field in microtesla (at most 100000)")
+        dirs = fibonacci_sphere(sphere)
+        width = len(str(len(dirs)))
+        targets = [(f"dir-{i + 1:0{width}d}", 1000.0 * magnitude_uT * d) for i, d in enumerate(dirs)]
+    else:
+        from cage.measurements import read_field_series_csv
+        from cage.sequence import resample_series
+
+        if not (0 < rate_Hz <= 100_000):
+            raise InputError(f"--rate-Hz must be a positive rate up to 100000 Hz, got {rate_Hz:g}")
+        data = read_field_series_csv(series, frame=series_frame)
+        t, field_nT = resample_series(data.t_s, data.field_nT, rate_Hz)
+        if data.frame == "ned":
+            field_nT = ned_to_cage(field_nT, amb0.heading_true_deg)
+        targets = [(f"t={tk:.3f}s", f) for tk, f in zip(t, field_nT)]
+        dt = 1.0 / rate_Hz
+    table = setpoint_table(design_obj, base.ambient_cage_nT, base.supplies, targets, site=base.site, date=base.date,
+                           source=base.source, coupling_nT_per_A=base.coupling_nT_per_A,
+                           ambient_temperature_C=site.coil.ambient_temperature_C,
+                           max_winding_temperature_C=site.coil.max_winding_temperature_C,
+                           warnings=base.warnings[:1] if amb0.earth.warning else ())
+    warnings = list(table.warnings)
+    if dt is not None:
+        from cage.sequence import check_slew
+
+        r_ohm, l_H = _axis_circuits(design_obj, table.supplies, site.coil.ambient_temperature_C)
+        currents = np.array([[a.setpoint_A for a in row.axes] for row in table.rows])
+        check = check_slew(currents, dt, r_ohm, l_H, [s.max_voltage_V for s in table.supplies],
+                           [s.max_current_A for s in table.supplies])
+        rows = list(table.rows)
+        for k in check.failing_steps:
+            axes = list(rows[k].axes)
+            for j in range(3):
+                if check.voltage_over_limit[k, j]:
+                    axes[j] = dataclasses.replace(axes[j], within_limits=False, problems=axes[j].problems + (
+                        f"slew needs {check.required_voltage_V[k, j]:.1f} V over {table.supplies[j].max_voltage_V:g} V "
+                        f"(L/R {check.time_constant_s[j] * 1000:.1f} ms)",))
+            rows[k] = dataclasses.replace(rows[k], axes=tuple(axes))
+        table = dataclasses.replace(table, rows=tuple(rows))
+        if check.failing_steps:
+            shown = ", ".join(rows[k].label for k in check.failing_steps[:10])
+            more = "" if len(check.failing_steps) <= 10 else f" and {len(check.failing_steps) - 10} more"
+            warnings.append(f"{len(check.failing_steps)} of {len(rows)} steps cannot be followed at {rate_Hz:g} Hz: "
+                            f"{shown}{more}")
+    bad = [r.label for r in table.rows if not r.within_limits]
+    if bad and dt is None:
+        warnings.append(f"{len(bad)} rows outside the supplies' limits (flagged, not clipped): {', '.join(bad[:10])}")
+    table = dataclasses.replace(table, warnings=tuple(warnings))
+    for w in warnings:
+        _warn(w)
+    text = setpoints_text(table) + "\n" if kind == "table" else render(table, kind)
+    if out is not None:
+        write_text(out, text)
+        _say(f"Wrote {out} ({kind}, {len(table.rows)} rows)")
+    else:
+        typer.echo(text, nl=False)
+
+
 # ----------------------------------------------------------------------------- entry point
 
 def main(argv: Optional[list[str]] = None) -> None:
