@@ -1,0 +1,510 @@
+"""Exact Biot-Savart fields of thin filaments: straight segments (closed polygons) and circles.
+
+Units: points and geometry in metres, currents in amperes, fields in tesla. One frame for
+everything passed in (the caller's, normally ``cage``). mu0 is scipy's CODATA value.
+
+Two kernels, one per source, each a numeric core with the input checks kept apart:
+
+* Straight segment (``_segment_core``), closed form of the Biot-Savart integral as given by
+  J. D. Hanson and S. P. Hirshman, "Compact expressions for the Biot-Savart fields of a
+  filamentary segment", Phys. Plasmas 9, 4410 (2002)::
+
+      B = mu0 I / (4 pi) * 2 L (r1 + r2) / (r1 r2 ((r1 + r2)^2 - L^2)) * (e x R1)
+
+  with R1 = p - a, r1 = |p - a|, r2 = |p - b|, L = |b - a|, e = (b - a) / L, current from a
+  to b. The denominator is rewritten without cancellation: with t1 = R1.e, t2 = t1 - L and
+  d^2 = |e x R1|^2, (r1 + r2)^2 - L^2 = 2 (d^2 + P), P = r1 r2 + t1 t2; where t1 t2 < 0 (the
+  foot of the perpendicular lies on the segment) P is taken as d^2 (r1^2 + r2^2 - d^2) /
+  (r1 r2 - t1 t2), which is the same number, so the field keeps full precision down to
+  micrometres from the wire. Polygon vertices share their distances between the two segments
+  that meet there.
+
+* Circular loop (``_loop_core``), complete elliptic integrals, after J. Simpson, J. Lane,
+  C. Immer and R. Youngquist, "Simple analytic expressions for the magnetic field of a
+  circular current loop", NASA Technical Reports Server 20010038494 (2001), in cylindrical
+  coordinates::
+
+      B_z   = mu0 I / (2 pi a^2 b) [ (R^2 - r^2) E(m) + a^2 K(m) ]
+      B_rho = mu0 I z / (2 pi a^2 b rho) [ (R^2 + r^2) E(m) - a^2 K(m) ]
+
+  (R loop radius, rho and z the cylindrical coordinates of the point about the loop's axis,
+  r^2 = rho^2 + z^2, a^2 = (R - rho)^2 + z^2, b^2 = (R + rho)^2 + z^2, m = k^2 = 4 R rho / b^2,
+  K, E complete elliptic integrals of parameter m: scipy.special.ellipkm1 (of 1 - m = a^2/b^2,
+  accurate next to the wire) and scipy.special.ellipe). Evaluated as written these lose
+  digits near the axis and far away (catastrophic cancellation, see M. Ortner et al.,
+  Magnetism 3, 11 (2023)); our rewrite keeps full precision. The radial bracket equals b^2 F(m),
+  F(m) = (1 - m/2) E(m) - (1 - m) K(m) = (3 pi / 32) m^2 (1 + O(m)), so with J(m) = F(m)/m^2::
+
+      B_rho / rho = mu0 I R^2 / (pi a^2 b) * 8 z J(m) / b^2
+      B_z         = mu0 I R^2 / (pi a^2 b) * (E(m) - 8 rho^2 J(m) / b^2)
+
+  For m < 0.2 (near the axis and far from the loop) J comes from its power series (exact
+  rational coefficients from the series of K and E, 22 terms, truncation below 1e-16), which
+  removes both the 0/0 on the axis and the cancellation far away: the on-axis limit is taken
+  explicitly in that no 1/rho appears, and at rho = 0 the expressions are exactly
+  B = mu0 I R^2 / (2 (R^2 + z^2)^(3/2)) along the normal. For m >= 0.2 J is evaluated directly
+  and B_z by the Simpson bracket with R^2 - r^2 = (R - rho)(R + rho) - z^2.
+
+On or next to a filament. A point closer than ``ON_WIRE_M`` (1e-9 m) to a filament gets zero
+contribution from that filament (the thin-wire field is infinite there; the other filaments
+still count). A filament is a whole polygon, a whole loop, or one lone segment of
+``segment_field_T``. The result is always finite, and no floating-point warning is raised.
+
+Memory. Points are processed in chunks of ``CHUNK_POINTS``; the working set is a few dozen
+arrays of that length whatever the number of points or sources, so a million points take the
+(n, 3) input and output plus a few megabytes.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from fractions import Fraction
+from typing import Sequence
+
+import numpy as np
+from scipy.constants import mu_0 as MU0_T_M_PER_A
+from scipy.special import ellipe, ellipkm1
+
+__all__ = [
+    "MU0_T_M_PER_A",
+    "ON_WIRE_M",
+    "CHUNK_POINTS",
+    "Polygon",
+    "Loop",
+    "filaments_field_T",
+    "segment_field_T",
+    "polygon_field_T",
+    "loop_field_T",
+]
+
+ON_WIRE_M = 1e-9
+"""Points closer than this to a filament get no contribution from it (metres)."""
+
+CHUNK_POINTS = 16384
+"""Points processed at once; bounds the working memory."""
+
+# ---------------------------------------------------------------------------------------------
+# Sources
+# ---------------------------------------------------------------------------------------------
+
+
+def _as_vector(value, what: str) -> np.ndarray:
+    arr = np.asarray(value, dtype=float)
+    if arr.shape != (3,):
+        raise ValueError(f"{what} must be a 3-vector, got shape {arr.shape}")
+    if not np.all(np.isfinite(arr)):
+        raise ValueError(f"{what} must be finite, got {arr.tolist()}")
+    return arr
+
+
+def _check_current(current_A, what: str) -> float:
+    value = float(current_A)
+    if not math.isfinite(value):
+        raise ValueError(f"{what} must be finite, got {current_A!r}")
+    return value
+
+
+@dataclass(frozen=True, eq=False)
+class Polygon:
+    """A closed polygon of straight filament segments carrying ``current_A``.
+
+    vertices_m: (k, 3) vertices in metres, k >= 2; the last vertex joins the first. The
+        current flows from vertex i to vertex i + 1. Zero-length edges are ignored.
+    current_A: current in amperes (for a coil of N turns modelled as one filament, N x I).
+    """
+
+    vertices_m: np.ndarray
+    current_A: float
+
+    def __post_init__(self):
+        verts = np.array(self.vertices_m, dtype=float)
+        if verts.ndim != 2 or verts.shape[1] != 3 or verts.shape[0] < 2:
+            raise ValueError(f"polygon vertices must be (k, 3) with k >= 2, got {verts.shape}")
+        if not np.all(np.isfinite(verts)):
+            raise ValueError("polygon vertices must be finite")
+        verts.setflags(write=False)
+        object.__setattr__(self, "vertices_m", verts)
+        object.__setattr__(self, "current_A", _check_current(self.current_A, "polygon current"))
+
+    def scaled(self, factor: float) -> "Polygon":
+        """The same polygon with its current multiplied by ``factor``."""
+        return Polygon(self.vertices_m, self.current_A * float(factor))
+
+
+@dataclass(frozen=True, eq=False)
+class Loop:
+    """A circular filament: centre (m), unit normal, radius (m), current (A).
+
+    A positive current circulates right-handed about ``normal``: the field at the centre
+    points along +normal. The normal is normalised on construction.
+    """
+
+    centre_m: np.ndarray
+    normal: np.ndarray
+    radius_m: float
+    current_A: float
+
+    def __post_init__(self):
+        centre = _as_vector(self.centre_m, "loop centre")
+        normal = _as_vector(self.normal, "loop normal")
+        size = float(np.linalg.norm(normal))
+        if size == 0.0:
+            raise ValueError("loop normal must not be zero")
+        normal = normal / size
+        radius = float(self.radius_m)
+        if not (math.isfinite(radius) and radius > 0):
+            raise ValueError(f"loop radius must be positive and finite, got {self.radius_m!r}")
+        centre.setflags(write=False)
+        normal.setflags(write=False)
+        object.__setattr__(self, "centre_m", centre)
+        object.__setattr__(self, "normal", normal)
+        object.__setattr__(self, "radius_m", radius)
+        object.__setattr__(self, "current_A", _check_current(self.current_A, "loop current"))
+
+    def scaled(self, factor: float) -> "Loop":
+        """The same loop with its current multiplied by ``factor``."""
+        return Loop(self.centre_m, self.normal, self.radius_m, self.current_A * float(factor))
+
+
+# ---------------------------------------------------------------------------------------------
+# Helpers for the numeric cores: linear combinations that skip zero and unit coefficients, so
+# axis-aligned geometry (the usual case) costs no wasted multiplications.
+# ---------------------------------------------------------------------------------------------
+
+
+def _lin(coeffs, arrays):
+    """sum(c * a) over the non-zero coefficients; None if all are zero (or arrays are None)."""
+    out = None
+    for c, a in zip(coeffs, arrays):
+        if c == 0.0 or a is None:
+            continue
+        if out is None:
+            out = a if c == 1.0 else (-a if c == -1.0 else c * a)
+        elif c == 1.0:
+            out = out + a
+        elif c == -1.0:
+            out = out - a
+        else:
+            out = out + c * a
+    return out
+
+
+def _sumsq(arrays):
+    out = None
+    for a in arrays:
+        if a is None:
+            continue
+        out = a * a if out is None else out + a * a
+    return out
+
+
+def _acc(target, scale, comp):
+    if comp is not None:
+        target += scale * comp
+
+
+# ---------------------------------------------------------------------------------------------
+# Straight segments
+# ---------------------------------------------------------------------------------------------
+
+
+def _polygon_setup(vertices: np.ndarray, closed: bool):
+    """Per-edge unit vectors and lengths (precomputed once per polygon)."""
+    ends = np.roll(vertices, -1, axis=0) if closed else vertices[1:]
+    starts = vertices if closed else vertices[:-1]
+    edges = ends - starts
+    lengths = np.sqrt(np.einsum("ij,ij->i", edges, edges))
+    units = np.zeros_like(edges)
+    ok = lengths > 0
+    units[ok] = edges[ok] / lengths[ok, None]
+    # Components that are rounding noise of an axis-aligned edge become exact 0 / +-1, so the
+    # numeric core can skip them.
+    units[np.abs(units) < 1e-15] = 0.0
+    unit_like = np.abs(np.abs(units) - 1.0) < 1e-15
+    units[unit_like] = np.sign(units[unit_like])
+    return [tuple(float(c) for c in u) for u in units], [float(v) for v in lengths]
+
+
+def _vertex_rel(x, y, z, v):
+    rx = x - v[0] if v[0] != 0.0 else x
+    ry = y - v[1] if v[1] != 0.0 else y
+    rz = z - v[2] if v[2] != 0.0 else z
+    rsq = rx * rx + ry * ry + rz * rz
+    return (rx, ry, rz), rsq, np.sqrt(rsq)
+
+
+def _segment_core(R1, r1sq, r1, r2sq, r2, unit, length, coef):
+    """Field of one straight segment, coef = mu0 I / (4 pi).
+
+    R1: components of p - a; r1 = |p - a|, r2 = |p - b| (and their squares); unit, length:
+    direction and length of b - a. Returns (f, (cx, cy, cz), near): the field is f * (e x R1)
+    (components None where identically zero) and near marks points within ON_WIRE_M of the
+    segment (None if there are none); f is not finite there.
+    """
+    ex, ey, ez = unit
+    t1 = _lin((ex, ey, ez), R1)
+    t2 = t1 - length
+    # e x R1
+    cx = _lin((0.0, -ez, ey), R1)
+    cy = _lin((ez, 0.0, -ex), R1)
+    cz = _lin((-ey, ex, 0.0), R1)
+    d2 = _sumsq((cx, cy, cz))
+    r1r2 = r1 * r2
+    tt = t1 * t2
+    # P = r1 r2 + t1 t2, computed without cancellation where t1 t2 < 0 (r1 r2 + |t1 t2| is
+    # r1 r2 - t1 t2 there, and never zero off the vertices).
+    p_alt = d2 * (r1sq + r2sq - d2) / (r1r2 + np.abs(tt))
+    pp = np.where(tt < 0.0, p_alt, r1r2 + tt)
+    f = (coef * length) * (r1 + r2) / (r1r2 * (d2 + pp))
+    near = None
+    close = d2 < ON_WIRE_M * ON_WIRE_M
+    if close.any():
+        near = close & (t1 > -ON_WIRE_M) & (t2 < ON_WIRE_M)
+        if not near.any():
+            near = None
+    return f, (cx, cy, cz), near
+
+
+def _polygon_chunk(x, y, z, vertices, units, lengths, current_A, bx, by, bz, closed=True):
+    """Add the field of one polygon (closed) or polyline (open) to bx, by, bz.
+
+    Points within ON_WIRE_M of any of its segments get nothing from the whole polygon.
+    """
+    coef = MU0_T_M_PER_A * current_A / (4.0 * math.pi)
+    k = len(vertices)
+    n_seg = k if closed else k - 1
+    first = _vertex_rel(x, y, z, vertices[0])
+    cur = first
+    acc = [None, None, None]
+    near_all = None
+    for i in range(n_seg):
+        j = i + 1
+        nxt = first if (closed and j == k) else _vertex_rel(x, y, z, vertices[j])
+        if lengths[i] > 0.0:
+            f, cross, near = _segment_core(cur[0], cur[1], cur[2], nxt[1], nxt[2], units[i],
+                                           lengths[i], coef)
+            if near is not None:
+                near_all = near if near_all is None else (near_all | near)
+            for c in range(3):
+                if cross[c] is None:
+                    continue
+                if acc[c] is None:
+                    acc[c] = f * cross[c]
+                else:
+                    acc[c] += f * cross[c]
+        cur = nxt
+    for target, a in zip((bx, by, bz), acc):
+        if a is None:
+            continue
+        if near_all is not None:
+            a[near_all] = 0.0
+        target += a
+
+
+# ---------------------------------------------------------------------------------------------
+# Circular loop
+# ---------------------------------------------------------------------------------------------
+
+_SERIES_M_MAX = 0.2
+_SERIES_TERMS = 22
+
+
+def _j_series_coefficients(n_terms: int) -> np.ndarray:
+    """Coefficients of J(m) = F(m) / m^2, F = (1 - m/2) E - (1 - m) K, as a power series in m.
+
+    From K = (pi/2) sum a_n^2 m^n, E = (pi/2) sum a_n^2 m^n / (1 - 2n), a_n = C(2n, n) / 4^n
+    (Abramowitz & Stegun 17.3.11-12). The m^0 and m^1 terms of F vanish exactly.
+    """
+    count = n_terms + 3
+    a2 = [Fraction(math.comb(2 * n, n), 4**n) ** 2 for n in range(count)]
+    c = a2
+    e = [a2[n] / (1 - 2 * n) for n in range(count)]
+    f = [e[0] - c[0]] + [e[n] - e[n - 1] / 2 - c[n] + c[n - 1] for n in range(1, count)]
+    assert f[0] == 0 and f[1] == 0
+    return np.array([float(v) * (math.pi / 2) for v in f[2 : 2 + n_terms]])
+
+
+_J_COEFFS = _j_series_coefficients(_SERIES_TERMS)
+
+
+def _j_series(m: np.ndarray) -> np.ndarray:
+    out = np.full_like(m, _J_COEFFS[-1])
+    for c in _J_COEFFS[-2::-1]:
+        out *= m
+        out += c
+    return out
+
+
+def _loop_core(x, y, z, centre, normal, radius, current_A, bx, by, bz):
+    """Add the field of one circular loop to bx, by, bz (see the module docstring)."""
+    X = _vertex_rel(x, y, z, centre)[0]
+    n = tuple(float(c) for c in normal)
+    zl = _lin(n, X)
+    # rho vector = X - zl n, skipping what is exactly zero for an axis-aligned normal.
+    rho_v = []
+    for i in range(3):
+        if n[i] == 0.0:
+            rho_v.append(X[i])
+        elif abs(n[i]) == 1.0:
+            rho_v.append(None)
+        else:
+            rho_v.append(X[i] - n[i] * zl)
+    rho2 = _sumsq(rho_v)
+    if rho2 is None:
+        rho2 = np.zeros_like(zl)
+    rho = np.sqrt(rho2)
+    R = radius
+    z2 = zl * zl
+    a2 = (R - rho) ** 2 + z2
+    b2 = (R + rho) ** 2 + z2
+    beta = np.sqrt(b2)
+    m = (4.0 * R) * rho / b2
+    E = ellipe(m)
+    coef = MU0_T_M_PER_A * current_A / math.pi
+    common = (coef * R * R) / (a2 * beta)
+    g = np.empty_like(m)  # 8 J / b^2
+    bzl = np.empty_like(m)
+    small = m < _SERIES_M_MAX
+    n_small = int(np.count_nonzero(small))
+    if n_small:
+        idx = slice(None) if n_small == m.size else np.flatnonzero(small)
+        gs = 8.0 * _j_series(m[idx]) / b2[idx]
+        g[idx] = gs
+        bzl[idx] = common[idx] * (E[idx] - rho2[idx] * gs)
+    if n_small < m.size:
+        idx = slice(None) if n_small == 0 else np.flatnonzero(~small)
+        mb = m[idx]
+        pb = a2[idx] / b2[idx]
+        Eb = E[idx]
+        Kb = ellipkm1(pb)
+        a2b = a2[idx]
+        g[idx] = 8.0 * ((1.0 - 0.5 * mb) * Eb - pb * Kb) / (mb * mb) / b2[idx]
+        rb = rho[idx]
+        bracket = ((R - rb) * (R + rb) - z2[idx]) * Eb + a2b * Kb
+        bzl[idx] = (0.5 * coef) * bracket / (a2b * beta[idx])
+    brho_over_rho = common * zl * g
+    close = a2 < ON_WIRE_M * ON_WIRE_M
+    if close.any():
+        bzl[close] = 0.0
+        brho_over_rho[close] = 0.0
+    comps = (bx, by, bz)
+    for i in range(3):
+        if n[i] != 0.0:
+            _acc(comps[i], n[i], bzl)
+        _acc(comps[i], brho_over_rho, rho_v[i])
+
+
+# ---------------------------------------------------------------------------------------------
+# Public evaluation
+# ---------------------------------------------------------------------------------------------
+
+
+def _as_points(points_m) -> tuple[np.ndarray, bool]:
+    pts = np.asarray(points_m, dtype=float)
+    single = pts.shape == (3,)
+    if single:
+        pts = pts[None, :]
+    if pts.ndim != 2 or pts.shape[1] != 3:
+        raise ValueError(f"points must have shape (3,) or (n, 3), got {np.shape(points_m)}")
+    if not np.all(np.isfinite(pts)):
+        raise ValueError("points must be finite")
+    return pts, single
+
+
+def _evaluate(pts: np.ndarray, polygons: Sequence[Polygon], loops: Sequence[Loop],
+              chunk_points: int) -> np.ndarray:
+    n = pts.shape[0]
+    out = np.zeros((n, 3))
+    setups = [(p.vertices_m, *_polygon_setup(p.vertices_m, True), p.current_A)
+              for p in polygons if p.current_A != 0.0]
+    loop_list = [lp for lp in loops if lp.current_A != 0.0]
+    if n == 0 or (not setups and not loop_list):
+        return out
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
+        for s in range(0, n, chunk_points):
+            e = min(n, s + chunk_points)
+            x = np.ascontiguousarray(pts[s:e, 0])
+            y = np.ascontiguousarray(pts[s:e, 1])
+            z = np.ascontiguousarray(pts[s:e, 2])
+            bx = np.zeros(e - s)
+            by = np.zeros(e - s)
+            bz = np.zeros(e - s)
+            for verts, units, lengths, cur in setups:
+                _polygon_chunk(x, y, z, verts, units, lengths, cur, bx, by, bz)
+            for lp in loop_list:
+                _loop_core(x, y, z, lp.centre_m, lp.normal, lp.radius_m, lp.current_A,
+                           bx, by, bz)
+            out[s:e, 0] = bx
+            out[s:e, 1] = by
+            out[s:e, 2] = bz
+    return out
+
+
+def filaments_field_T(points_m, polygons: Sequence[Polygon] = (), loops: Sequence[Loop] = (),
+                      chunk_points: int = CHUNK_POINTS) -> np.ndarray:
+    """Total field (T) of closed polygons and circular loops at points (m).
+
+    points_m: (n, 3) or (3,) in metres; the result has the same shape, in tesla.
+    polygons, loops: the sources (each with its own current in amperes).
+    Points within ``ON_WIRE_M`` of a filament get no contribution from that filament.
+    """
+    pts, single = _as_points(points_m)
+    chunk = int(chunk_points)
+    if chunk < 1:
+        raise ValueError(f"chunk_points must be at least 1, got {chunk_points!r}")
+    for p in polygons:
+        if not isinstance(p, Polygon):
+            raise TypeError(f"expected Polygon, got {type(p).__name__}")
+    for lp in loops:
+        if not isinstance(lp, Loop):
+            raise TypeError(f"expected Loop, got {type(lp).__name__}")
+    out = _evaluate(pts, polygons, loops, chunk)
+    return out[0] if single else out
+
+
+def polygon_field_T(points_m, vertices_m, current_A: float) -> np.ndarray:
+    """Field (T) of one closed polygon filament (vertices (k, 3) in m, current in A)."""
+    return filaments_field_T(points_m, polygons=[Polygon(vertices_m, current_A)])
+
+
+def loop_field_T(points_m, centre_m, normal, radius_m: float, current_A: float) -> np.ndarray:
+    """Field (T) of one circular filament loop (centre m, normal, radius m, current A)."""
+    return filaments_field_T(points_m, loops=[Loop(centre_m, normal, radius_m, current_A)])
+
+
+def segment_field_T(points_m, starts_m, ends_m, currents_A) -> np.ndarray:
+    """Summed field (T) of independent straight segments (current from start to end).
+
+    starts_m, ends_m: (s, 3) in metres; currents_A: (s,) or a scalar, in amperes.
+    A lone segment is not a physical circuit; the sum over a closed path is.
+    """
+    pts, single = _as_points(points_m)
+    a = np.atleast_2d(np.asarray(starts_m, dtype=float))
+    b = np.atleast_2d(np.asarray(ends_m, dtype=float))
+    if a.shape != b.shape or a.ndim != 2 or a.shape[1] != 3:
+        raise ValueError(f"segment starts and ends must both be (s, 3), got {a.shape}, {b.shape}")
+    cur = np.broadcast_to(np.asarray(currents_A, dtype=float), (a.shape[0],))
+    if not (np.all(np.isfinite(a)) and np.all(np.isfinite(b)) and np.all(np.isfinite(cur))):
+        raise ValueError("segment ends and currents must be finite")
+    n = pts.shape[0]
+    out = np.zeros((n, 3))
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
+        for s in range(0, n, CHUNK_POINTS):
+            e = min(n, s + CHUNK_POINTS)
+            x = np.ascontiguousarray(pts[s:e, 0])
+            y = np.ascontiguousarray(pts[s:e, 1])
+            z = np.ascontiguousarray(pts[s:e, 2])
+            bx = np.zeros(e - s)
+            by = np.zeros(e - s)
+            bz = np.zeros(e - s)
+            for k in range(a.shape[0]):
+                if cur[k] == 0.0:
+                    continue
+                verts = np.stack([a[k], b[k]])
+                units, lengths = _polygon_setup(verts, closed=False)
+                _polygon_chunk(x, y, z, verts, units, lengths, float(cur[k]), bx, by, bz,
+                               closed=False)
+            out[s:e, 0] = bx
+            out[s:e, 1] = by
+            out[s:e, 2] = bz
+    return out[0] if single else out
