@@ -7,7 +7,9 @@ Heavy modules (ppigrf, scipy.optimize, matplotlib) are imported inside the comma
 """
 from __future__ import annotations
 
+import dataclasses
 import json
+import math
 import os
 import sys
 from pathlib import Path
@@ -393,13 +395,25 @@ def _number_list(value, n=3):
     return out if len(out) == n and all(v == v and abs(v) != float("inf") for v in out) else None
 
 
-def build_setpoints(design, site, *, targets_file=None, calibration_file=None):
-    """The setpoint table of a design at a site (model, survey, or calibration), with warnings."""
-    import numpy as np
+@dataclasses.dataclass(frozen=True)
+class _Context:
+    """What a current table of a design at a site is computed from."""
 
+    amb: object
+    supplies: tuple
+    extra_nT: list
+    ambient_C: float
+    max_C: Optional[float]
+    coupling: object
+    ambient_nT: object
+    source: str
+    warnings: tuple
+
+
+def _setpoint_context(design, site, calibration_file=None) -> _Context:
+    """Supplies, temperatures, field in force and warnings for a design used at a site."""
     from cage.ambient import site_ambient
-    from cage.frames import ned_to_cage
-    from cage.setpoints import reuse_warnings, setpoint_table, standard_targets
+    from cage.setpoints import reuse_warnings
     from cage.supplies import supply_for_axis, validate_supply
 
     amb = site_ambient(site)
@@ -422,40 +436,62 @@ def build_setpoints(design, site, *, targets_file=None, calibration_file=None):
         max_C = site.coil.max_winding_temperature_C
     else:
         extra_nT = _number_list(req.get("extra_field_nT")) or [1000.0 * v for v in site.requirement.extra_field_uT]
-        ambient_C = float(req.get("ambient_temperature_C", 22.0))
-        max_C = float(req["max_winding_temperature_C"]) if "max_winding_temperature_C" in req else None
-    targets = standard_targets(extra_nT)
-    if targets_file is not None:
-        from cage.targetfile import read_targets_csv
-
-        for t in read_targets_csv(targets_file):
-            field_nT = 1000.0 * np.array(t.field_uT)
-            if t.frame == "ned":
-                field_nT = ned_to_cage(field_nT, amb.heading_true_deg)
-            targets.append((t.label, field_nT))
-    coupling = None
-    ambient_nT = amb.in_force_cage_nT
-    source = amb.source
+        ambient_C = _number_or(req.get("ambient_temperature_C"), 22.0)
+        max_C = _number_or(req.get("max_winding_temperature_C"), None)
+    coupling, ambient_nT, source = None, amb.in_force_cage_nT, amb.source
     if calibration_file is not None:
         from cage.calibrationfile import load_calibration
 
         fit = load_calibration(calibration_file)
         coupling, ambient_nT, source = fit.coupling_nT_per_A, fit.offset_nT, "calibration"
     warnings += reuse_warnings(design, supplies, site.room)
-    table = setpoint_table(design, ambient_nT, supplies, targets, site=site.name, date=site.date, source=source,
-                           coupling_nT_per_A=coupling, ambient_temperature_C=ambient_C,
-                           max_winding_temperature_C=max_C, warnings=warnings)
+    return _Context(amb, supplies, extra_nT, ambient_C, max_C, coupling, ambient_nT, source, tuple(warnings))
+
+
+def _number_or(value, default):
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        return default
+    return v if math.isfinite(v) else default
+
+
+def _table(design, site, ctx: _Context, targets):
+    from cage.setpoints import setpoint_table
+
+    return setpoint_table(design, ctx.ambient_nT, ctx.supplies, targets, site=site.name, date=site.date,
+                          source=ctx.source, coupling_nT_per_A=ctx.coupling, ambient_temperature_C=ctx.ambient_C,
+                          max_winding_temperature_C=ctx.max_C, warnings=ctx.warnings)
+
+
+def _flag_rows(table, limit: int = 10):
+    """Add one warning naming the rows outside the supplies' limits."""
     bad = [r.label for r in table.rows if not r.within_limits]
-    if bad:
-        table = dataclasses_replace(table, warnings=table.warnings + (
-            f"rows outside the supplies' limits (flagged, not clipped): {', '.join(bad)}",))
-    return amb, table
+    if not bad:
+        return table
+    more = "" if len(bad) <= limit else f" and {len(bad) - limit} more"
+    return dataclasses.replace(table, warnings=table.warnings + (
+        f"{len(bad)} rows outside the supplies' limits (flagged, not clipped): {', '.join(bad[:limit])}{more}",))
 
 
-def dataclasses_replace(obj, **changes):
-    import dataclasses
+def build_setpoints(design, site, *, targets_file=None, calibration_file=None):
+    """The standard and user rows of a design at a site (model, survey, or calibration)."""
+    import numpy as np
 
-    return dataclasses.replace(obj, **changes)
+    from cage.frames import ned_to_cage
+    from cage.setpoints import standard_targets
+
+    ctx = _setpoint_context(design, site, calibration_file)
+    targets = standard_targets(ctx.extra_nT)
+    if targets_file is not None:
+        from cage.targetfile import read_targets_csv
+
+        for t in read_targets_csv(targets_file):
+            field_nT = 1000.0 * np.array(t.field_uT)
+            if t.frame == "ned":
+                field_nT = ned_to_cage(field_nT, ctx.amb.heading_true_deg)
+            targets.append((t.label, field_nT))
+    return ctx.amb, _flag_rows(_table(design, site, ctx, targets))
 
 
 def setpoints_text(table) -> str:
@@ -732,8 +768,6 @@ def sequence(
     calibration: Optional[Path] = typer.Option(None, "--calibration", help="Calibration file from cage calibrate."),
 ):
     """Setpoint tables for a sphere of field directions or a replayed time series of fields."""
-    import dataclasses
-
     import numpy as np
 
     from cage import sitefile
@@ -746,9 +780,8 @@ def sequence(
     design_obj = load_design(design_file)
     site = sitefile.load_site(site_file)
     kind = _infer_format(fmt, out)
-    amb0, base = build_setpoints(design_obj, site, calibration_file=calibration)
+    ctx = _setpoint_context(design_obj, site, calibration)
     from cage.frames import ned_to_cage
-    from cage.setpoints import setpoint_table
 
     dt = None
     if sphere is not None:
@@ -768,41 +801,29 @@ def sequence(
         data = read_field_series_csv(series, frame=series_frame)
         t, field_nT = resample_series(data.t_s, data.field_nT, rate_Hz)
         if data.frame == "ned":
-            field_nT = ned_to_cage(field_nT, amb0.heading_true_deg)
+            field_nT = ned_to_cage(field_nT, ctx.amb.heading_true_deg)
         targets = [(f"t={tk:.3f}s", f) for tk, f in zip(t, field_nT)]
         dt = 1.0 / rate_Hz
-    table = setpoint_table(design_obj, base.ambient_cage_nT, base.supplies, targets, site=base.site, date=base.date,
-                           source=base.source, coupling_nT_per_A=base.coupling_nT_per_A,
-                           ambient_temperature_C=site.coil.ambient_temperature_C,
-                           max_winding_temperature_C=site.coil.max_winding_temperature_C,
-                           warnings=base.warnings[:1] if amb0.earth.warning else ())
+    table = _table(design_obj, site, ctx, targets)
     warnings = list(table.warnings)
     if dt is not None:
         from cage.sequence import check_slew
+        from cage.setpoints import flag_slew
 
         r_ohm, l_H = _axis_circuits(design_obj, table.supplies, site.coil.ambient_temperature_C)
         currents = np.array([[a.setpoint_A for a in row.axes] for row in table.rows])
         check = check_slew(currents, dt, r_ohm, l_H, [s.max_voltage_V for s in table.supplies],
                            [s.max_current_A for s in table.supplies])
-        rows = list(table.rows)
-        for k in check.failing_steps:
-            axes = list(rows[k].axes)
-            for j in range(3):
-                if check.voltage_over_limit[k, j]:
-                    axes[j] = dataclasses.replace(axes[j], within_limits=False, problems=axes[j].problems + (
-                        f"slew needs {check.required_voltage_V[k, j]:.1f} V over {table.supplies[j].max_voltage_V:g} V "
-                        f"(L/R {check.time_constant_s[j] * 1000:.1f} ms)",))
-            rows[k] = dataclasses.replace(rows[k], axes=tuple(axes))
-        table = dataclasses.replace(table, rows=tuple(rows))
+        table = flag_slew(table, check)
         if check.failing_steps:
-            shown = ", ".join(rows[k].label for k in check.failing_steps[:10])
+            shown = ", ".join(table.rows[k].label for k in check.failing_steps[:10])
             more = "" if len(check.failing_steps) <= 10 else f" and {len(check.failing_steps) - 10} more"
-            warnings.append(f"{len(check.failing_steps)} of {len(rows)} steps cannot be followed at {rate_Hz:g} Hz: "
-                            f"{shown}{more}")
-    bad = [r.label for r in table.rows if not r.within_limits]
-    if bad and dt is None:
-        warnings.append(f"{len(bad)} rows outside the supplies' limits (flagged, not clipped): {', '.join(bad[:10])}")
+            warnings.append(f"{len(check.failing_steps)} of {len(table.rows)} steps cannot be followed at "
+                            f"{rate_Hz:g} Hz: {shown}{more}")
     table = dataclasses.replace(table, warnings=tuple(warnings))
+    if dt is None:
+        table = _flag_rows(table)
+    warnings = table.warnings
     for w in warnings:
         _warn(w)
     text = setpoints_text(table) + "\n" if kind == "table" else render(table, kind)

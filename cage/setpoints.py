@@ -14,6 +14,7 @@ supply's limits are flagged, never clipped.
 """
 from __future__ import annotations
 
+import dataclasses
 import datetime as _dt
 import math
 from dataclasses import dataclass
@@ -217,6 +218,21 @@ def table_to_dict(table: SetpointTable) -> dict:
         "rows": rows,
         "warnings": list(table.warnings),
     }
+
+
+def flag_slew(table: SetpointTable, check) -> SetpointTable:
+    """The table with the steps a :class:`cage.sequence.SlewCheck` found unreachable flagged
+    (the axis's row entry marked outside limits, with the voltage the step needs)."""
+    rows = list(table.rows)
+    for k in check.failing_steps:
+        axes = list(rows[k].axes)
+        for j in range(3):
+            if check.voltage_over_limit[k, j]:
+                axes[j] = dataclasses.replace(axes[j], within_limits=False, problems=axes[j].problems + (
+                    f"slew needs {check.required_voltage_V[k, j]:.1f} V over {table.supplies[j].max_voltage_V:g} V "
+                    f"(L/R {check.time_constant_s[j] * 1000:.1f} ms)",))
+        rows[k] = dataclasses.replace(rows[k], axes=tuple(axes))
+    return dataclasses.replace(table, rows=tuple(rows))
 
 
 # ----------------------------------------------------------------------------- drift
