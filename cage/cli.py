@@ -659,13 +659,13 @@ def calibration_text(summary: dict) -> str:
         scale = check.get("scale_error_percent")
         if scale:
             lines.append("Built cage against the design: scale error " +
-                         ", ".join(f"{a} {v:+.2f} %" for a, v in zip("xyz", scale)))
+                         ", ".join(f"{a} {scale[a]:+.2f} %" for a in "xyz"))
         non = check.get("non_orthogonality_deg")
         if isinstance(non, dict):
             lines.append("  non-orthogonality " + ", ".join(f"{k2} {v:+.3f} deg" for k2, v in non.items()))
         mis = check.get("misalignment_deg")
         if mis:
-            lines.append("  misalignment from the design axes " + ", ".join(f"{a} {v:.3f} deg" for a, v in zip("xyz", mis)))
+            lines.append("  misalignment from the design axes " + ", ".join(f"{a} {mis[a]:.3f} deg" for a in "xyz"))
     return "\n".join(lines)
 
 
