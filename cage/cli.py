@@ -592,6 +592,102 @@ def setpoints(
         typer.echo(drift_text(drift), err=out is None and kind != "table")
 
 
+# ----------------------------------------------------------------------------- figures and report
+
+FIGURES = {
+    "uniformity.png": "Uniformity maps: relative deviation in the mid-planes, each axis driven alone",
+    "axis_lines.png": "Field along the lines through the centre, each axis driven alone",
+    "cage_in_room.png": "The cage in the room: top, front and side views",
+    "setpoints.png": "Setpoints: currents and power per axis against the supply limits",
+}
+
+
+def _design_context(design_doc: dict):
+    """Test volume, tolerance, frame and room recorded in a design file (with defaults)."""
+    from cage.layout import FrameSpec
+    from cage.sitefile import Room
+
+    req = design_doc.get("requirement") or {}
+    lay = design_doc.get("layout") or {}
+    site = design_doc.get("site") or {}
+    volume = _number_list(req.get("test_volume_m")) or [0.3, 0.3, 0.3]
+    tol = _number_or(req.get("uniformity"), 0.001)
+    frame = FrameSpec(_number_or(lay.get("frame_width_m"), 0.04), _number_or(lay.get("frame_depth_m"), 0.04),
+                      _number_or(lay.get("frame_gap_m"), 0.01))
+    room = None
+    dims = _number_list(site.get("room_m"))
+    if dims is not None:
+        room = Room(*dims, clearance_m=_number_or(site.get("room_clearance_m"), 0.3))
+    return volume, tol, frame, room
+
+
+def make_figures(design_obj, design_doc: dict, setpoints_doc: Optional[dict]) -> dict:
+    """The report's figures as {file name: PNG bytes}."""
+    from cage import plots
+
+    volume, tol, frame, room = _design_context(design_doc)
+    figs = {
+        "uniformity.png": plots.uniformity_maps_figure(design_obj.cage, volume, tol),
+        "axis_lines.png": plots.axis_lines_figure(design_obj.cage, volume, tol),
+        "cage_in_room.png": plots.cage_in_room_figure(design_obj.cage, frame, room, volume),
+    }
+    if setpoints_doc is not None:
+        figs["setpoints.png"] = plots.setpoints_figure(setpoints_doc)
+    return {name: plots.png_bytes(fig) for name, fig in figs.items()}
+
+
+def write_report(folder: Path, field_doc, design_doc, setpoints_doc, pngs: dict) -> Path:
+    from cage.atomicfile import write_bytes, write_text
+    from cage.report import build_report
+
+    for name, data in pngs.items():
+        write_bytes(folder / name, data)
+    title = "Coil cage report"
+    if isinstance(field_doc, dict) and field_doc.get("site"):
+        title += f": {field_doc['site']}"
+    html = build_report(field=field_doc, design=design_doc, setpoints=setpoints_doc,
+                        figures={FIGURES[name]: data for name, data in pngs.items()}, title=title)
+    return write_text(folder / "report.html", html)
+
+
+def _read_json(path: Path, what: str) -> Optional[dict]:
+    if not path.exists():
+        return None
+    try:
+        doc = json.loads(path.read_text(encoding="utf-8"))
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"{path}: cannot read ({exc})") from None
+    except json.JSONDecodeError as exc:
+        raise InputError(f"{path}: not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})") from None
+    if not isinstance(doc, dict):
+        raise InputError(f"{path}: must hold a JSON object ({what})")
+    return doc
+
+
+@app.command()
+def report(
+    folder: Path = typer.Argument(..., help="A plan folder with design.json (and field.json, setpoints.json).",
+                                  show_default=False),
+):
+    """Write the stand-alone report.html (figures embedded) for a plan folder."""
+    from cage.designfile import load_design
+
+    if not folder.is_dir():
+        raise InputError(f"{folder}: no such folder")
+    design_path = folder / "design.json"
+    if not design_path.exists():
+        raise InputError(f"{folder}: no design.json (make one with cage design or cage plan)")
+    design_obj = load_design(design_path)
+    design_doc = _read_json(design_path, "a design")
+    field_doc = _read_json(folder / "field.json", "a field summary")
+    setpoints_doc = _read_json(folder / "setpoints.json", "a setpoints table")
+    if setpoints_doc is not None and setpoints_doc.get("format") != "cage-setpoints":
+        raise InputError(f"{folder / 'setpoints.json'}: not a cage-setpoints file")
+    pngs = make_figures(design_obj, design_doc, setpoints_doc)
+    path = write_report(folder, field_doc, design_doc, setpoints_doc, pngs)
+    _say(f"Wrote {path} and {', '.join(pngs)}")
+
+
 # ----------------------------------------------------------------------------- plan
 
 @app.command()
@@ -629,13 +725,17 @@ def plan(
         raise InputError(f"{out}: cannot make the folder ({exc.strerror})") from None
     for name, text in texts.items():
         write_text(out / name, text)
+    design_doc = json.loads(texts["design.json"])
+    setpoints_doc = json.loads(texts["setpoints.json"])
+    pngs = make_figures(design_obj, design_doc, setpoints_doc)
+    write_report(out, json.loads(texts["field.json"]), design_doc, setpoints_doc, pngs)
     _say(f"Plan for {site.name} ({amb.source} field, {amb.earth.date.isoformat()}) in {out}/")
     _say(design_table(plan_obj, inp))
     _say("")
     _say(setpoints_text(table))
     for line in _design_cautions(plan_obj, inp) + list(table.warnings):
         _warn(line)
-    _say("Wrote " + ", ".join(texts))
+    _say("Wrote " + ", ".join(list(texts) + list(pngs) + ["report.html"]))
 
 
 # ----------------------------------------------------------------------------- calibrate
