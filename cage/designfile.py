@@ -308,7 +308,7 @@ class _Reader:
         if "format" not in obj:
             for key in obj:
                 if difflib.get_close_matches(str(key).lower(), ["format"], n=1, cutoff=0.6):
-                    self.fail(str(key), 'is not a known key (did you mean "format"?)')
+                    self.fail(_join("", key), 'is not a known key (did you mean "format"?)')
             self.fail("", f'not a cage design file (no "format": "{FORMAT}")')
         if obj["format"] != FORMAT:
             self.fail("format", f'must be "{FORMAT}", got {_show(obj["format"])}')
@@ -346,7 +346,10 @@ class _Reader:
 
 
 def _join(path: str, key) -> str:
-    return f"{path}.{key}" if path else str(key)
+    # a key that is empty or holds a line break or other unprintable text is quoted, so the
+    # message stays on one line
+    shown = key if isinstance(key, str) and key and key.isprintable() else repr(key)
+    return f"{path}.{shown}" if path else str(shown)
 
 
 def design_from_dict(obj, where: str) -> Design:

@@ -511,9 +511,10 @@ def plan_warnings(axes, inp: PlanInputs) -> list[str]:
         if abs(a.drive.voltage_V) > 50.0:
             out.append(f"axis {a.pair.axis}: {abs(a.drive.voltage_V):.0f} V at full range; above about 50 V DC "
                        f"touch protection is required by most electrical codes")
-        if not a.supply.bipolar:
-            out.append(f"axis {a.pair.axis}: the supply is unipolar; negative currents need a polarity switch "
-                       f"(switch only at zero current: the coil's stored energy arcs otherwise)")
+    unipolar = [a.pair.axis for a in axes if not a.supply.bipolar]
+    if unipolar:
+        out.append(f"axis {', '.join(unipolar)}: unipolar supply; negative currents need a polarity switch "
+                   f"(switch only at zero current: the coil's stored energy arcs otherwise)")
     return out
 
 
