@@ -21,7 +21,7 @@ import numpy as np
 
 from cage.coils import AXES, CoilCage, CoilPair, flat_spacing_m
 from cage.errors import InputError
-from cage.layout import FrameSpec, check_layout, clears
+from cage.layout import check_layout, largest_nesting_size_m
 from cage.optimise import PlanInputs, choose_winding
 
 MAX_SIZES = 400
@@ -82,31 +82,6 @@ def parse_sizes(text: str) -> np.ndarray:
 
 def _size_from_outer(shape: str, outer_m: float) -> float:
     return outer_m if shape == "square" else outer_m / 2.0
-
-
-def largest_nesting_size_m(axis: str, shape: str, outer, frame: FrameSpec, upper_m: float,
-                           tolerance_m: float = 5e-4) -> float | None:
-    """Largest size <= upper_m of a flat-spaced pair on ``axis`` that clears every pair in
-    ``outer``, by bisection (assumes clearance falls as the inner pair grows); None if even
-    a small pair does not clear."""
-    ratio = flat_spacing_m(shape, 1.0)
-
-    def ok(size: float) -> bool:
-        return clears(CoilPair(axis, shape, size, ratio * size, 1), outer, frame)
-
-    if ok(upper_m):
-        return upper_m
-    lo = 0.05 * upper_m
-    if not ok(lo):
-        return None
-    hi = upper_m
-    while hi - lo > tolerance_m:
-        mid = 0.5 * (lo + hi)
-        if ok(mid):
-            lo = mid
-        else:
-            hi = mid
-    return lo
 
 
 def compare_sizes(inp: PlanInputs, sizes_m, progress=None) -> list[CompareRow]:

@@ -199,10 +199,34 @@ def smallest_nesting_size_m(axis: str, shape: str, inner, frame: FrameSpec, lowe
         lo, hi = hi, hi * 1.08 + frame.needed_distance_m / 2.0
         if hi > upper_m:
             raise ValueError(f"no {shape} {axis} pair up to {upper_m:g} m clears the inner pairs")
-    while hi - lo > tolerance_m:
-        mid = 0.5 * (lo + hi)
+    return _bisect_edge(ok, good=hi, bad=lo, tolerance=tolerance_m)
+
+
+def largest_nesting_size_m(axis: str, shape: str, outer, frame: FrameSpec, upper_m: float,
+                           tolerance_m: float = 5e-4) -> float | None:
+    """Largest size <= upper_m of a flat-spaced pair on ``axis`` that clears every pair in
+    ``outer``, by bisection (clearance falls as the inner pair grows); the size returned
+    always clears. None if even a pair of 5 % of upper_m does not clear."""
+    ratio = flat_spacing_m(shape, 1.0)
+
+    def ok(size: float) -> bool:
+        return clears(CoilPair(axis, shape, size, ratio * size, 1), outer, frame)
+
+    if ok(upper_m):
+        return float(upper_m)
+    lo = 0.05 * upper_m
+    if not ok(lo):
+        return None
+    return _bisect_edge(ok, good=lo, bad=float(upper_m), tolerance=tolerance_m)
+
+
+def _bisect_edge(ok, good: float, bad: float, tolerance: float) -> float:
+    """Bisect between a value where ``ok`` holds and one where it does not; return the last
+    value where it holds, within ``tolerance`` of the edge."""
+    while abs(bad - good) > tolerance:
+        mid = 0.5 * (good + bad)
         if ok(mid):
-            hi = mid
+            good = mid
         else:
-            lo = mid
-    return hi
+            bad = mid
+    return good
