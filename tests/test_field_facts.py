@@ -26,7 +26,7 @@ def test_inclination_near_dip_poles_and_dip_equator():
     assert earth_field(86.0, 140.0, 0.0, DATE).inclination_deg > 85.0
     assert earth_field(-64.0, 135.0, 0.0, DATE).inclination_deg < -85.0
     # Along a meridian the inclination changes sign at the dip equator: find it.
-    lats = np.linspace(-30, 30, 121)
+    lats = np.linspace(-30, 30, 61)
     inc = np.array([earth_field(float(la), -40.0, 0.0, DATE).inclination_deg for la in lats])
     assert inc[0] < -10 and inc[-1] > 10
     crossing = lats[np.argmin(np.abs(inc))]
