@@ -365,6 +365,20 @@ def compare(
 
 # ----------------------------------------------------------------------------- setpoints
 
+def _load_checked_design(path: Path):
+    """A design file that can be built: frames that do not collide, coils around the test volume."""
+    from cage.designfile import design_to_dict, load_design
+    from cage.layout import geometry_problems
+
+    design_obj = load_design(path)
+    volume, _, frame, _ = _design_context(design_to_dict(design_obj))
+    problems = geometry_problems(design_obj.cage, frame, volume)
+    if problems:
+        raise InputError(f"{path}: {problems[0]}; was the design file edited?")
+    return design_obj
+
+
+
 def _design_supplies(design):
     """Supplies recorded in a design file at planning time (used when no site file gives them)."""
     from cage.supplies import Supply, validate_supply
@@ -567,10 +581,9 @@ def setpoints(
 ):
     """Signed supply currents for nulling and test fields, with voltage and power budgets."""
     from cage.atomicfile import write_text
-    from cage.designfile import load_design
     from cage.setpointfile import load_table_json, render
 
-    design_obj = load_design(design_file)
+    design_obj = _load_checked_design(design_file)
     site = _resolve_site(site_file, lat, lon, alt_m, date, heading_deg, heading_magnetic)
     kind = _infer_format(fmt, out)
     old = load_table_json(previous) if previous is not None else None
@@ -670,14 +683,13 @@ def report(
                                   show_default=False),
 ):
     """Write the stand-alone report.html (figures embedded) for a plan folder."""
-    from cage.designfile import load_design
 
     if not folder.is_dir():
         raise InputError(f"{folder}: no such folder")
     design_path = folder / "design.json"
     if not design_path.exists():
         raise InputError(f"{folder}: no design.json (make one with cage design or cage plan)")
-    design_obj = load_design(design_path)
+    design_obj = _load_checked_design(design_path)
     design_doc = _read_json(design_path, "a design")
     field_doc = _read_json(folder / "field.json", "a field summary")
     setpoints_doc = _read_json(folder / "setpoints.json", "a setpoints table")
@@ -781,10 +793,9 @@ def calibrate(
 ):
     """Fit the built cage from magnetometer readings: offset, coupling, corrected null currents."""
     from cage.atomicfile import write_text
-    from cage.designfile import load_design
     from cage.setpoints import design_coupling_nT_per_A
 
-    design_obj = load_design(design_file)
+    design_obj = _load_checked_design(design_file)
     if suggest:
         from cage import sitefile
         from cage.calibrate import design_condition_number, suggest_currents_A
@@ -872,12 +883,11 @@ def sequence(
 
     from cage import sitefile
     from cage.atomicfile import write_text
-    from cage.designfile import load_design
     from cage.setpointfile import render
 
     if (sphere is None) == (series is None):
         raise InputError("give exactly one of --sphere N (with --magnitude-uT) or --series FILE.csv")
-    design_obj = load_design(design_file)
+    design_obj = _load_checked_design(design_file)
     site = sitefile.load_site(site_file)
     kind = _infer_format(fmt, out)
     ctx = _setpoint_context(design_obj, site, calibration)

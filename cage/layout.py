@@ -230,3 +230,35 @@ def _bisect_edge(ok, good: float, bad: float, tolerance: float) -> float:
         else:
             bad = mid
     return good
+
+
+def geometry_problems(cage: CoilCage, frame: FrameSpec, test_volume_m=None) -> list[str]:
+    """What makes a cage impossible to build or to use, in plain words (empty if nothing).
+
+    Frames of different axes that collide (centrelines closer than the frame circumcircle
+    plus the gap, less 1 mm of slack for a design made elsewhere), a coil smaller than its
+    frame, and a test volume that a coil passes through.
+    """
+    out = []
+    for p in cage.pairs:
+        if p.half_width_m <= frame.depth_m / 2.0:
+            out.append(f"the {p.axis} pair ({p.shape}, {p.size_m:g} m) is smaller than its "
+                       f"{frame.depth_m * 1000:g} mm frame")
+    if out:
+        return out
+    layout = check_layout(cage, frame)
+    if layout.min_distance_m < frame.needed_distance_m - 1e-3:
+        a, b = layout.closest_axes
+        out.append(f"the frames of the {a} and {b} pairs collide: centrelines {layout.min_distance_m * 1000:.0f} mm "
+                   f"apart, {frame.needed_distance_m * 1000:.0f} mm needed")
+    if test_volume_m is not None:
+        half = np.asarray(test_volume_m, dtype=float) / 2.0
+        for p in cage.pairs:
+            a = AXES.index(p.axis)
+            u, v = (a + 1) % 3, (a + 2) % 3
+            inside_axially = half[a] >= p.spacing_m / 2.0
+            lateral = max(half[u], half[v]) if p.shape == "square" else math.hypot(half[u], half[v])
+            if inside_axially and lateral >= p.half_width_m:
+                out.append(f"the {p.axis} pair's coils pass through the "
+                           f"{' x '.join(f'{2 * h:g}' for h in half)} m test volume")
+    return out

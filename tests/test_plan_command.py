@@ -67,3 +67,26 @@ def test_plan_into_a_file_path(tmp_path, run_cli):
     target = tmp_path / "file.txt"
     target.write_text("x")
     assert_one_line_error(run_cli("plan", SITES / "smallsat-lab.toml", "--out", target), "not a folder")
+
+
+def test_design_edited_to_nonsense_is_refused(tmp_path, run_cli):
+    # A y pair shrunk to 1 cm cannot carry its 40 mm frame; an x pair grown into the y
+    # pair's frames collides with them (the rule of the README: centreline distance at
+    # least sqrt(w^2 + d^2) + gap).
+    design_path = tmp_path / "design.json"
+    assert run_cli("design", SITES / "smallsat-lab.toml", "--out", design_path).code == 0
+    doc = json.loads(design_path.read_text())
+    for edit, fragment in ((("y", "side_m", 0.01), "smaller than its"),
+                           (("x", "side_m", doc["axes"]["y"]["side_m"]), "collide"),
+                           (("z", "side_m", 0.2), "test volume")):
+        bad = json.loads(design_path.read_text())
+        axis, key, value = edit
+        bad["axes"][axis][key] = value
+        if axis == "z":
+            bad["axes"]["z"]["spacing_m"] = 0.1  # a 0.2 m coil pair inside the 0.25 m test cube
+        path = tmp_path / f"bad-{axis}-{key}.json"
+        path.write_text(json.dumps(bad))
+        out = tmp_path / "t.csv"
+        assert_one_line_error(run_cli("setpoints", path, SITES / "smallsat-lab.toml", "--out", out),
+                              str(path), fragment)
+        assert not out.exists()
