@@ -299,8 +299,25 @@ class _Reader:
                     extra[key] = self.number(obj[key], f"{path}.{key}", "m", MAX_LENGTH_M)
                 else:
                     extra[key] = self.number(obj[key], f"{path}.{key}")
+        if "wire" in extra:
+            self.check_winding(path, extra["wire"], turns, extra.get("frame_width_m"), extra.get("frame_depth_m"))
         pair = CoilPair(axis=name, shape=shape, size_m=size, spacing_m=spacing, turns=turns)
         return AxisDesign(pair=pair, **extra)
+
+    def check_winding(self, path: str, wire: str, turns: int, width_m, depth_m) -> None:
+        """The wire is one the catalogue knows and, with the frame given, the turns fit its channel."""
+        from cage.electrical import winding_pack
+        from cage.wires import wire_from_name
+
+        try:
+            wire_from_name(wire)
+        except InputError as exc:
+            self.fail(f"{path}.wire", f"is not usable: {exc}")
+        if width_m is not None and depth_m is not None:
+            try:
+                winding_pack(wire, turns, width_m, depth_m)
+            except InputError as exc:
+                self.fail(f"{path}.turns", f"do not fit the frame channel: {exc}")
 
     def design(self, obj) -> Design:
         if not isinstance(obj, dict):

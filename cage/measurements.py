@@ -36,6 +36,13 @@ CALIBRATION_COLUMNS = ("current_x_A", "current_y_A", "current_z_A",
 SERIES_COLUMNS = ("t_s", "x_nT", "y_nT", "z_nT")
 FRAMES = ("cage", "ned")
 
+# Largest magnitudes accepted (a value beyond them is a typing error, and keeps the fits and
+# the resampling clear of floating-point overflow): currents as the site file's supplies
+# (10 kA), fields 1 T, times about 30,000 years.
+MAX_CURRENT_A = 10_000.0
+MAX_FIELD_NT = 1e9
+MAX_TIME_S = 1e12
+
 
 @dataclass(frozen=True, eq=False)
 class CalibrationReadings:
@@ -126,7 +133,7 @@ def _read_table(path, required: tuple[str, ...], optional: tuple[str, ...] = ())
     return p, index, rows
 
 
-def _number(p: Path, number: int, column: str, cell: str) -> float:
+def _number(p: Path, number: int, column: str, cell: str, limit: float | None = None) -> float:
     try:
         value = float(cell)
     except ValueError:
@@ -135,14 +142,24 @@ def _number(p: Path, number: int, column: str, cell: str) -> float:
         raise InputError(f"{p}: line {number}, column {column}: {what} is not a number") from None
     if not math.isfinite(value):
         raise InputError(f"{p}: line {number}, column {column}: {cell!r} is not a finite number")
+    if limit is not None and abs(value) > limit:
+        raise InputError(f"{p}: line {number}, column {column}: {value:g} is beyond +-{limit:g}")
     return value
+
+
+def _limit(column: str) -> float:
+    if column.endswith("_A"):
+        return MAX_CURRENT_A
+    if column.endswith("_nT"):
+        return MAX_FIELD_NT
+    return MAX_TIME_S
 
 
 def _numbers(p: Path, index: dict, rows, columns) -> np.ndarray:
     out = np.empty((len(rows), len(columns)))
     for r, (number, cells) in enumerate(rows):
         for c, name in enumerate(columns):
-            out[r, c] = _number(p, number, name, cells[index[name]])
+            out[r, c] = _number(p, number, name, cells[index[name]], _limit(name))
     return out
 
 

@@ -57,6 +57,8 @@ def read_targets_csv(path) -> list[Target]:
     index = {c: header.index(c) for c in header}
     out, seen = [], set()
     for (lineno, _), row in zip(lines[1:], rows[1:]):
+        if "frame" in index and index["frame"] == len(header) - 1 and len(row) == len(header) - 1:
+            row = row + [""]  # the frame cell may be left off a row: cage frame
         if len(row) != len(header):
             raise InputError(f"{where}: line {lineno}: {len(row)} cells, the header has {len(header)}")
         label = row[index["label"]].strip()
@@ -76,7 +78,7 @@ def read_targets_csv(path) -> list[Target]:
                 raise InputError(f"{where}: line {lineno}: {c} must be a finite number of microtesla "
                                  f"within +-{MAX_FIELD_UT:g}, got {cell!r}")
             values.append(v)
-        frame = row[index["frame"]].strip().lower() if "frame" in index else "cage"
+        frame = (row[index["frame"]].strip().lower() or "cage") if "frame" in index else "cage"
         if frame not in ("cage", "ned"):
             raise InputError(f"{where}: line {lineno}: frame must be cage or ned, got {frame!r}")
         out.append(Target(label, tuple(values), frame))
