@@ -67,10 +67,15 @@ def parse_sizes(text: str) -> np.ndarray:
             start, stop, step = parts
             if not all(math.isfinite(v) for v in parts) or step <= 0 or start <= 0 or stop < start:
                 raise InputError(f"--sizes {text!r}: need 0 < START <= STOP and STEP > 0 (metres)")
-            count = int(math.floor((stop - start) / step + 1e-9)) + 1
+            span = (stop - start) / step
+            if not math.isfinite(span) or span + 1 > MAX_SIZES:
+                raise InputError(f"--sizes {text!r}: more than {MAX_SIZES} sizes")
+            count = int(math.floor(span + 1e-9)) + 1
             sizes = start + step * np.arange(count)
         else:
             sizes = np.array([float(p) for p in text.split(",")])
+    except InputError:
+        raise
     except ValueError:
         raise InputError(f"--sizes {text!r}: give START:STOP:STEP or a comma list of sizes in metres") from None
     if sizes.size == 0 or not np.all(np.isfinite(sizes)) or np.any(sizes <= 0) or np.any(sizes > 50):

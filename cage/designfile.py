@@ -57,6 +57,7 @@ VERSION = 1
 # Sanity limits: a value beyond these is a typing error, not a cage.
 MAX_LENGTH_M = 50.0
 MAX_TURNS = 100000
+MAX_LEAD_LENGTH_M = 10_000.0  # as the site file's coil.lead_length_m
 
 OPTIONAL_AXIS_NUMBERS = (
     "resistance_20C_ohm",
@@ -297,6 +298,8 @@ class _Reader:
             if key in obj:
                 if key in ("frame_width_m", "frame_depth_m"):
                     extra[key] = self.number(obj[key], f"{path}.{key}", "m", MAX_LENGTH_M)
+                elif key == "lead_length_m":
+                    extra[key] = self.number(obj[key], f"{path}.{key}", "m", MAX_LEAD_LENGTH_M)
                 else:
                     extra[key] = self.number(obj[key], f"{path}.{key}")
         if "wire" in extra:

@@ -31,6 +31,7 @@ from cage.coils import AXES, CoilCage, CoilPair, flat_spacing_m
 CURVE_SAMPLES = 256
 FINE_SAMPLES = 15
 MAX_STARTS = 4
+NESTING_STEP_M = 0.005
 
 
 @dataclass(frozen=True)
@@ -235,8 +236,11 @@ def smallest_nesting_size_m(axis: str, shape: str, inner, frame: FrameSpec, lowe
     """Smallest size (side or radius) >= lower_m of a pair on ``axis`` that clears every
     pair in ``inner``, with spacing = spacing_per_size x size (default: the flat optimum).
 
-    Searches upward from ``lower_m`` in 8 % steps to the first size that clears, then
-    bisects between it and the last size that did not; the size returned always clears.
+    Scans upward from ``lower_m`` on a fixed grid of ``NESTING_STEP_M`` to the first size
+    that clears, then bisects between it and the grid point before; the size returned
+    always clears. The fixed grid keeps the result (nearly) monotone in ``lower_m``: clearance
+    is not monotone in size (a coil plane can pass another coil's edge), so coarse
+    geometric steps could skip a window that a larger lower bound would find.
     Raises ValueError beyond upper_m.
     """
     ratio = spacing_per_size if spacing_per_size is not None else flat_spacing_m(shape, 1.0)
@@ -246,9 +250,10 @@ def smallest_nesting_size_m(axis: str, shape: str, inner, frame: FrameSpec, lowe
 
     if not inner or ok(lower_m):
         return float(lower_m)
-    lo = hi = float(lower_m)
+    lo = float(lower_m)
+    hi = (math.floor(lo / NESTING_STEP_M) + 1) * NESTING_STEP_M
     while not ok(hi):
-        lo, hi = hi, hi * 1.08 + frame.needed_distance_m / 2.0
+        lo, hi = hi, hi + NESTING_STEP_M
         if hi > upper_m:
             raise ValueError(f"no {shape} {axis} pair up to {upper_m:g} m clears the inner pairs")
     return _bisect_edge(ok, good=hi, bad=lo, tolerance=tolerance_m)

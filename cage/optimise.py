@@ -11,7 +11,9 @@ electrical model, no Taylor estimates):
    the innermost pair takes its smallest uniform size; each pair further out takes the
    smallest size that is both uniform and clears the frames of the pairs inside it
    (``cage.layout``). A smaller cage needs less power and copper for the same field, so the
-   smallest nested sizes are the best for every objective.
+   smallest nested sizes are taken. The nesting is greedy: frame clearance is not monotone
+   in size, and occasionally a slightly larger inner pair would let an outer pair shrink by
+   a few centimetres; the planner does not search for that.
 3. Windings: per axis, the field needed is |ambient component| + extra field. For each allowed
    wire, the turns range from the fewest that reach the field within the supply's current, to
    the most that fit the frame channel, and no more than keep the full-range current at or

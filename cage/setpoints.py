@@ -287,12 +287,19 @@ def null_drift(now: SetpointTable, previous: dict, sv_cage_nT_per_year, threshol
 def reuse_warnings(design, supplies, room=None) -> list[str]:
     """Warnings when a design is used with another site's room or supplies."""
     out = []
-    if room is not None and design.envelope_m is not None:
-        from cage.layout import room_inner_m
+    if room is not None:
+        from cage.layout import FrameSpec, envelope_m, room_inner_m
 
         inner = room_inner_m(room)
-        env = np.asarray(design.envelope_m, dtype=float)
-        if env.shape == (3,) and np.any(env > inner + 1e-9):
+        # The envelope from the pairs themselves (frames as recorded, else none), and the
+        # recorded one if larger: an edited design file cannot hide its size.
+        width = max((a.frame_width_m or 0.0) for a in design.axes)
+        depth = max((a.frame_depth_m or 0.0) for a in design.axes)
+        env = envelope_m(design.cage, FrameSpec(width, depth, 0.0))
+        recorded = np.asarray(design.envelope_m if design.envelope_m is not None else [], dtype=float)
+        if recorded.shape == (3,):
+            env = np.maximum(env, recorded)
+        if np.any(env > inner + 1e-9):
             out.append("the cage (envelope " + " x ".join(f"{v:.2f}" for v in env) + " m) does not fit this site's "
                        "room less clearance (" + " x ".join(f"{v:.2f}" for v in inner) + " m)")
     for axis, a, s in zip(AXES, design.axes, supplies):
