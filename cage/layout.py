@@ -30,8 +30,8 @@ from cage.coils import AXES, CoilCage, CoilPair, flat_spacing_m
 
 CURVE_SAMPLES = 256
 FINE_SAMPLES = 15
-MAX_STARTS = 4
-NESTING_STEP_M = 0.005
+MAX_STARTS = 3
+NESTING_STEP_M = 0.01
 
 
 @dataclass(frozen=True)
@@ -140,7 +140,7 @@ def _curve_to_circle_m(curve: CoilPair, curve_sign: float, circle: CoilPair, cir
 
     The distance to the circle is exact; along the other curve it is sampled, then refined
     around every local minimum that could hold the true one (within a sample step of the
-    best sample), four rounds each.
+    best sample), three rounds each.
     """
     t = np.arange(CURVE_SAMPLES) / CURVE_SAMPLES
     d = _distance_to_circle_m(_curve_points(curve, t, curve_sign), circle, circle_sign)
@@ -150,7 +150,7 @@ def _curve_to_circle_m(curve: CoilPair, curve_sign: float, circle: CoilPair, cir
     offsets = np.linspace(-1.0, 1.0, FINE_SAMPLES)
     for i in np.flatnonzero(local)[np.argsort(d[local])][:MAX_STARTS]:
         centre, width = t[i], 1.5 / CURVE_SAMPLES
-        for _ in range(4):
+        for _ in range(3):
             f = (centre + width * offsets) % 1.0
             e = _distance_to_circle_m(_curve_points(curve, f, curve_sign), circle, circle_sign)
             k = int(np.argmin(e))
