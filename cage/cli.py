@@ -12,6 +12,7 @@ import json
 import math
 import os
 import sys
+import types
 from pathlib import Path
 from typing import Optional
 
@@ -83,7 +84,8 @@ def _resolve_site(site_file: Optional[Path], lat: Optional[float], lon: Optional
         site = dataclasses.replace(site, date=sitefile.parse_date(date, "--date"), date_given=True)
     if heading_deg is not None or heading_magnetic:
         orientation = sitefile.Orientation(
-            heading_deg=sitefile.check_heading(site.orientation.heading_deg if heading_deg is None else heading_deg),
+            heading_deg=sitefile.check_heading(site.orientation.heading_deg if heading_deg is None else heading_deg,
+                                               "command line"),
             heading_reference="magnetic" if heading_magnetic else site.orientation.heading_reference)
         site = dataclasses.replace(site, orientation=orientation)
     return site
@@ -218,8 +220,8 @@ def _plan_from_site(site, shape, minimise, spacing, max_field_step_nT):
     return amb, inp, plan_cage(inp)
 
 
-def design_table(plan, inp) -> str:
-    """The per-axis summary of ``cage design``."""
+def design_table(plan, inp, packs=()) -> str:
+    """The per-axis summary of ``cage design``; ``packs``: optional winding-pack differences."""
     rows = [
         ("shape", lambda a: a.pair.shape, ""),
         ("size (side or radius)", lambda a: f"{a.pair.size_m:.3f}", "m"),
@@ -261,7 +263,22 @@ def design_table(plan, inp) -> str:
         lines.append(f"Room less clearance         {room} m: {'fits' if lay.fits_room else 'does NOT fit'}")
     lines.append(f"Total at full range         {plan.total_power_W:.1f} W, copper {plan.copper_mass_kg:.1f} kg "
                  f"(objective: least {plan.minimise})")
+    if packs:
+        centre = ", ".join(f"{a} {d.centre_relative * 1e6:.0f} ppm" for a, d in zip("xyz", packs))
+        unif = ", ".join(f"{a} {d.box_deviation_pack * 100:.4f} %" for a, d in zip("xyz", packs))
+        lines.append(f"Winding pack vs one filament: centre field differs by {centre}; "
+                     f"uniformity with the pack {unif}")
     return "\n".join(lines)
+
+
+def _packs_of(design_obj):
+    """The winding-pack differences recorded in a design's layout block, as simple records."""
+    lay = design_obj.layout or {}
+    keys = ("winding_pack_centre_difference", "winding_pack_box_difference", "winding_pack_uniformity")
+    if not all(isinstance(lay.get(k), list) and len(lay[k]) == 3 for k in keys):
+        return ()
+    return tuple(types.SimpleNamespace(centre_relative=c, box_max_relative=b, box_deviation_pack=u)
+                 for c, b, u in zip(*(lay[k] for k in keys)))
 
 
 def _design_cautions(plan, inp) -> list[str]:
@@ -292,9 +309,10 @@ def design(
 
     site = sitefile.load_site(site_file)
     amb, inp, plan = _plan_from_site(site, shape, minimise, spacing, max_field_step_nT)
-    save_design(out, design_from_plan(plan, inp, site, amb))
+    design_obj = design_from_plan(plan, inp, site, amb)
+    save_design(out, design_obj)
     _say(f"Design for {site.name} ({amb.source} field, {amb.earth.date.isoformat()})")
-    _say(design_table(plan, inp))
+    _say(design_table(plan, inp, _packs_of(design_obj)))
     for line in _design_cautions(plan, inp):
         _warn(line)
     _say(f"Wrote {out}")
@@ -513,10 +531,10 @@ def setpoints_text(table) -> str:
     lines = [f"Current table for {table.site} ({table.source} field, {table.date})",
              "ambient (cage frame): " + ", ".join(f"{a} {v:,.1f} nT" for a, v in zip("xyz", table.ambient_cage_nT)),
              "",
-             f"{'row':<10}{'target x, y, z (uT)':>26}{'I x (A)':>10}{'I y (A)':>10}{'I z (A)':>10}"
+             f"{'row':<10}{'target x, y, z (nT)':>32}{'I x (A)':>10}{'I y (A)':>10}{'I z (A)':>10}"
              f"{'V max (V)':>10}{'power (W)':>10}{'rounding (nT)':>14}  limits"]
     for r in table.rows:
-        target = ", ".join(f"{v / 1000:.2f}" for v in r.target_cage_nT)
+        target = ", ".join(f"{v:.1f}" for v in r.target_cage_nT)
         cur = "".join(f"{a.setpoint_A:>10.{_decimals_for(s)}f}" for a, s in zip(r.axes, table.supplies))
         volts = [abs(a.voltage_V) for a in r.axes if a.voltage_V is not None]
         vmax = f"{max(volts):>10.2f}" if volts else f"{'-':>10}"
@@ -526,7 +544,7 @@ def setpoints_text(table) -> str:
         switch = [ax for ax, a in zip("xyz", r.axes) if a.polarity_switch]
         if switch:
             flag += f" (reverse polarity on {', '.join(switch)})"
-        lines.append(f"{r.label:<10}{target:>26}{cur}{vmax}{power}{r.rounding_error_nT:>14.1f}  {flag}")
+        lines.append(f"{r.label:<10}{target:>32}{cur}{vmax}{power}{r.rounding_error_nT:>14.1f}  {flag}")
     return "\n".join(lines)
 
 
@@ -742,7 +760,7 @@ def plan(
     pngs = make_figures(design_obj, design_doc, setpoints_doc)
     write_report(out, json.loads(texts["field.json"]), design_doc, setpoints_doc, pngs)
     _say(f"Plan for {site.name} ({amb.source} field, {amb.earth.date.isoformat()}) in {out}/")
-    _say(design_table(plan_obj, inp))
+    _say(design_table(plan_obj, inp, _packs_of(design_obj)))
     _say("")
     _say(setpoints_text(table))
     for line in _design_cautions(plan_obj, inp) + list(table.warnings):
@@ -840,7 +858,7 @@ def calibrate(
 
 # ----------------------------------------------------------------------------- sequence
 
-def _axis_circuits(design_obj, supplies, ambient_C):
+def _axis_circuits(design_obj, supplies, ambient_C, where: str = "design file"):
     """Per axis: circuit resistance at full-range temperature (winding + leads) and inductance."""
     import numpy as np
 
@@ -849,7 +867,7 @@ def _axis_circuits(design_obj, supplies, ambient_C):
     r, ind = [], []
     for a, s in zip(design_obj.axes, supplies):
         if a.inductance_H is None:
-            raise InputError(f"design file: axes.{a.pair.axis}.inductance_H is missing; a sequence needs it "
+            raise InputError(f"{where}: axes.{a.pair.axis}.inductance_H is missing; a sequence needs it "
                              f"(make the design with cage design)")
         if a.wire is not None and a.frame_width_m is not None and a.frame_depth_m is not None:
             el = axis_electrics(a.pair, a.wire, a.max_current_A or s.max_current_A,
@@ -859,7 +877,7 @@ def _axis_circuits(design_obj, supplies, ambient_C):
         elif a.resistance_hot_ohm is not None:
             r.append(a.resistance_hot_ohm)
         else:
-            raise InputError(f"design file: axes.{a.pair.axis} has neither wire nor resistance_hot_ohm")
+            raise InputError(f"{where}: axes.{a.pair.axis} has neither wire nor resistance_hot_ohm")
         ind.append(a.inductance_H)
     return np.array(r), np.array(ind)
 
@@ -899,6 +917,8 @@ def sequence(
 
         if magnitude_uT is None or not (0 < magnitude_uT <= 100_000):
             raise InputError("--sphere needs --magnitude-uT, a positive field in microtesla (at most 100000)")
+        if not 1 <= sphere <= 100_000:
+            raise InputError(f"--sphere must be a number of directions from 1 to 100000, got {sphere}")
         dirs = fibonacci_sphere(sphere)
         width = len(str(len(dirs)))
         targets = [(f"dir-{i + 1:0{width}d}", 1000.0 * magnitude_uT * d) for i, d in enumerate(dirs)]
@@ -908,6 +928,8 @@ def sequence(
 
         if not (0 < rate_Hz <= 100_000):
             raise InputError(f"--rate-Hz must be a positive rate up to 100000 Hz, got {rate_Hz:g}")
+        if series_frame is not None and series_frame not in ("cage", "ned"):
+            raise InputError(f"--series-frame must be cage or ned, got {series_frame!r}")
         data = read_field_series_csv(series, frame=series_frame)
         t, field_nT = resample_series(data.t_s, data.field_nT, rate_Hz)
         if data.frame == "ned":
@@ -920,7 +942,7 @@ def sequence(
         from cage.sequence import check_slew
         from cage.setpoints import flag_slew
 
-        r_ohm, l_H = _axis_circuits(design_obj, table.supplies, site.coil.ambient_temperature_C)
+        r_ohm, l_H = _axis_circuits(design_obj, table.supplies, site.coil.ambient_temperature_C, str(design_file))
         currents = np.array([[a.setpoint_A for a in row.axes] for row in table.rows])
         check = check_slew(currents, dt, r_ohm, l_H, [s.max_voltage_V for s in table.supplies],
                            [s.max_current_A for s in table.supplies])

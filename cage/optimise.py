@@ -499,6 +499,20 @@ def plan_cage(inp: PlanInputs) -> Plan:
                 warnings=tuple(plan_warnings(axes, inp)))
 
 
+def pack_differences(plan: Plan, inp: PlanInputs):
+    """Per axis, how the field of the real winding pack (one filament per turn, on the wire's
+    grid in the frame channel) differs from the N-turns-as-one-filament model the planner
+    uses: at the centre and over the test volume (cage.coils.PackDifference)."""
+    from cage.coils import FilamentPack, pack_vs_filament_difference
+    from cage.wires import wire_from_name
+
+    out = []
+    for a in plan.axes:
+        pack = FilamentPack(wire_from_name(a.wire).outer_diameter_m, inp.frame.width_m)
+        out.append(pack_vs_filament_difference(a.pair, pack, inp.test_volume_m))
+    return tuple(out)
+
+
 def plan_warnings(axes, inp: PlanInputs) -> list[str]:
     """Cautions worth showing for a plan: hot windings, high current density, polarity switches."""
     out = []
@@ -578,6 +592,7 @@ def design_from_plan(plan: Plan, inp: PlanInputs, site=None, ambient=None):
     }
     if inp.max_field_step_nT is not None:
         requirement["max_field_step_nT"] = inp.max_field_step_nT
+    packs = pack_differences(plan, inp)
     layout = {
         "order_outermost_first": list(plan.order),
         "min_centreline_distance_m": lay.min_distance_m,
@@ -593,6 +608,9 @@ def design_from_plan(plan: Plan, inp: PlanInputs, site=None, ambient=None):
         "full_range_voltage_V": [abs(a.drive.voltage_V) for a in plan.axes],
         "full_range_power_W": [a.drive.power_W for a in plan.axes],
         "field_step_nT": [a.field_step_nT for a in plan.axes],
+        "winding_pack_centre_difference": [d.centre_relative for d in packs],
+        "winding_pack_box_difference": [d.box_max_relative for d in packs],
+        "winding_pack_uniformity": [d.box_deviation_pack for d in packs],
     }
     if lay.room_inner_m is not None:
         layout["room_inner_m"] = list(lay.room_inner_m)

@@ -25,7 +25,7 @@ from conftest import SITES
 SITE = SITES / "smallsat-lab.toml"
 BASE = SITE.read_text(encoding="utf-8")
 
-UNITS = {"nT", "uT", "mT", "nT/yr", "nT/year", "deg", "m", "mm", "A", "mA", "V", "W", "ohm", "mH", "H", "ms", "s",
+UNITS = {"ppm", "nT", "uT", "mT", "nT/yr", "nT/year", "deg", "m", "mm", "A", "mA", "V", "W", "ohm", "mH", "H", "ms", "s",
          "uT/A", "nT/A", "%", "C", "kg", "A/mm^2", "Hz", "d", "days"}
 NUMBER = re.compile(r"(?<![\w.^/])[-+]?\d[\d,]*(?:\.\d+)?(?:e[-+]?\d+)?(?![\w.])")
 # Names and dates that hold digits but are not quantities.
