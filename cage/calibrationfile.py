@@ -129,17 +129,10 @@ def _count(p, key, value):
 
 def load_calibration_record(path: str | os.PathLike) -> CalibrationRecord:
     """Read and validate a calibration file; see the module docstring for the keys."""
+    from cage.textfile import read_text
+
     p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except FileNotFoundError:
-        raise InputError(f"{p}: file not found") from None
-    except IsADirectoryError:
-        raise InputError(f"{p}: is a folder, not a file") from None
-    except UnicodeDecodeError:
-        raise InputError(f"{p}: not UTF-8 text") from None
-    except OSError as exc:
-        raise InputError(f"{p}: cannot read ({exc.strerror or exc})") from None
+    text = read_text(p, "calibration file")
     try:
         doc = json.loads(text)
     except json.JSONDecodeError as exc:

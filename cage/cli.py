@@ -682,17 +682,9 @@ def write_report(folder: Path, field_doc, design_doc, setpoints_doc, pngs: dict)
 
 
 def _read_json(path: Path, what: str) -> Optional[dict]:
-    if not path.exists():
-        return None
-    try:
-        doc = json.loads(path.read_text(encoding="utf-8"))
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"{path}: cannot read ({exc})") from None
-    except json.JSONDecodeError as exc:
-        raise InputError(f"{path}: not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})") from None
-    if not isinstance(doc, dict):
-        raise InputError(f"{path}: must hold a JSON object ({what})")
-    return doc
+    from cage.textfile import read_json_object
+
+    return read_json_object(path, what) if path.exists() else None
 
 
 @app.command()

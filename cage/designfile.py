@@ -388,19 +388,9 @@ def _parse_constant(name: str) -> float:
 def load_design(path: str | os.PathLike) -> Design:
     """Read and validate a ``cage-design`` JSON file; InputError (one line) when it is wrong."""
     where = str(path)
-    p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except FileNotFoundError:
-        raise InputError(f"{where}: no such file") from None
-    except IsADirectoryError:
-        raise InputError(f"{where}: is a folder, not a design file") from None
-    except PermissionError:
-        raise InputError(f"{where}: cannot read (permission denied)") from None
-    except UnicodeDecodeError:
-        raise InputError(f"{where}: is not UTF-8 text") from None
-    except OSError as exc:
-        raise InputError(f"{where}: cannot read ({exc.strerror or exc})") from None
+    from cage.textfile import read_text
+
+    text = read_text(path, "design file")
     try:
         obj = json.loads(text, object_pairs_hook=_pairs_hook, parse_constant=_parse_constant)
     except json.JSONDecodeError as exc:

@@ -80,20 +80,10 @@ class FieldSeries:
 
 def _read_table(path, required: tuple[str, ...], optional: tuple[str, ...] = ()):
     """Return (header index map, [(line_number, cells)]) of a CSV file."""
+    from cage.textfile import read_text
+
     p = Path(path)
-    try:
-        with open(p, "r", encoding="utf-8-sig", newline="") as fh:
-            text = fh.read()
-    except FileNotFoundError:
-        raise InputError(f"{p}: file not found") from None
-    except IsADirectoryError:
-        raise InputError(f"{p}: is a folder, not a file") from None
-    except UnicodeDecodeError as exc:
-        raise InputError(f"{p}: not UTF-8 text (bad byte at offset {exc.start})") from None
-    except OSError as exc:
-        raise InputError(f"{p}: cannot read ({exc.strerror or exc})") from None
-    if "\x00" in text:
-        raise InputError(f"{p}: not a text file (contains NUL bytes)")
+    text = read_text(p, "CSV file")
 
     lines = text.splitlines()
     rows = []

@@ -13,7 +13,6 @@ import csv
 import io
 import json
 import math
-from pathlib import Path
 
 from cage.coils import AXES
 from cage.errors import InputError
@@ -119,18 +118,10 @@ def render(table: SetpointTable, fmt: str) -> str:
 
 def load_table_json(path) -> dict:
     """An earlier setpoints JSON document (for --previous), checked for its format."""
-    p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise InputError(f"{path}: no such setpoints file") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"{path}: cannot read ({exc})") from None
-    try:
-        doc = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise InputError(f"{path}: not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})") from None
-    if not isinstance(doc, dict) or doc.get("format") != "cage-setpoints":
+    from cage.textfile import read_json_object
+
+    doc = read_json_object(path, "setpoints file")
+    if doc.get("format") != "cage-setpoints":
         raise InputError(f"{path}: not a cage-setpoints JSON file (write one with --format json)")
     if not isinstance(doc.get("rows"), list):
         raise InputError(f"{path}: rows must be a list")

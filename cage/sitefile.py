@@ -281,21 +281,9 @@ def check_heading(heading_deg, where: str = "input") -> float:
 
 def load_site(path: str | Path) -> Site:
     """Read and validate a site file; raise InputError with one line on any problem."""
-    p = Path(path)
-    where = str(path)
-    if p.is_dir():
-        raise InputError(f"{where}: is a folder, not a site file")
-    try:
-        raw = p.read_bytes()
-    except FileNotFoundError:
-        raise InputError(f"{where}: no such site file") from None
-    except OSError as exc:
-        raise InputError(f"{where}: cannot read ({exc.strerror})") from None
-    try:
-        text = raw.decode("utf-8")
-    except UnicodeDecodeError:
-        raise InputError(f"{where}: not a UTF-8 text file") from None
-    return site_from_text(text, where)
+    from cage.textfile import read_text
+
+    return site_from_text(read_text(path, "site file"), str(path))
 
 
 def site_from_text(text: str, where: str = "site") -> Site:

@@ -9,9 +9,9 @@ from __future__ import annotations
 import csv
 import math
 from dataclasses import dataclass
-from pathlib import Path
 
 from cage.errors import InputError
+from cage.textfile import read_text
 from cage.setpoints import FIXED_LABELS
 
 REQUIRED = ("label", "x_uT", "y_uT", "z_uT")
@@ -28,15 +28,7 @@ class Target:
 
 def read_targets_csv(path) -> list[Target]:
     where = str(path)
-    p = Path(path)
-    try:
-        text = p.read_text(encoding="utf-8-sig")
-    except FileNotFoundError:
-        raise InputError(f"{where}: no such targets file") from None
-    except IsADirectoryError:
-        raise InputError(f"{where}: is a folder, not a targets file") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"{where}: cannot read ({exc})") from None
+    text = read_text(path, "targets file")
     lines = [(n, line) for n, line in enumerate(text.splitlines(), 1) if line.strip() and not line.lstrip().startswith("#")]
     if not lines:
         raise InputError(f"{where}: empty; expected a header {','.join(REQUIRED)}[,frame]")

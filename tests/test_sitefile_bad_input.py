@@ -94,7 +94,7 @@ def test_good_site_reads(tmp_path, run_cli):
 
 
 def test_missing_file(tmp_path, run_cli):
-    assert_one_line_error(run_cli("field", tmp_path / "nope.toml"), "nope.toml", "no such site file")
+    assert_one_line_error(run_cli("field", tmp_path / "nope.toml"), "nope.toml", "no such file", "site file")
 
 
 def test_folder_instead_of_file(tmp_path, run_cli):
