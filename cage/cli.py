@@ -887,6 +887,7 @@ def sequence(
     fmt: Optional[str] = typer.Option(None, "--format", help="table, csv, json or scpi (default: from --out, else table)."),
     out: Optional[Path] = typer.Option(None, "--out", help="File to write (atomically) instead of printing."),
     calibration: Optional[Path] = typer.Option(None, "--calibration", help="Calibration file from cage calibrate."),
+    plot: Optional[Path] = typer.Option(None, "--plot", help="Write the currents against time or row (PNG)."),
 ):
     """Setpoint tables for a sphere of field directions or a replayed time series of fields."""
     import numpy as np
@@ -951,11 +952,27 @@ def sequence(
     for w in warnings:
         _warn(w)
     text = setpoints_text(table) + "\n" if kind == "table" else render(table, kind)
+    if plot is not None:
+        from cage.atomicfile import write_bytes
+        from cage.plots import png_bytes, sequence_figure
+
+        steps = np.arange(len(table.rows)) / rate_Hz if dt is not None else np.arange(len(table.rows), dtype=float)
+        failing = [k for k, r in enumerate(table.rows) if not r.within_limits]
+        fig = sequence_figure(steps, np.array([r.setpoint_A for r in table.rows]),
+                              [s.max_current_A for s in table.supplies], failing)
+        if dt is None:
+            for ax in fig.axes:
+                if ax.get_xlabel():
+                    ax.set_xlabel("direction number (row)")
+        write_bytes(plot, png_bytes(fig))
     if out is not None:
         write_text(out, text)
         _say(f"Wrote {out} ({kind}, {len(table.rows)} rows)")
     else:
         typer.echo(text, nl=False)
+    if plot is not None:
+        # With a machine format on stdout, keep stdout clean: say it on stderr.
+        typer.echo(f"Wrote {plot}", err=out is None and kind != "table")
 
 
 # ----------------------------------------------------------------------------- entry point

@@ -62,3 +62,12 @@ def test_fast_step_is_flagged_at_its_step(tmp_path, run_cli, design_path):
 
 def test_sequence_needs_one_mode(run_cli, design_path):
     assert_one_line_error(run_cli("sequence", design_path, SITES / "smallsat-lab.toml"), "--sphere")
+
+
+def test_sequence_plot_is_a_png(tmp_path, run_cli, design_path):
+    png = tmp_path / "seq.png"
+    run = run_cli("sequence", design_path, SITES / "smallsat-lab.toml", "--sphere", "12", "--magnitude-uT", "30",
+                  "--format", "csv", "--plot", png)
+    assert run.code == 0, run
+    assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (ISO/IEC 15948)
+    assert run.out.startswith("label,")  # the table stays alone on stdout
