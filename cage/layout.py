@@ -251,11 +251,20 @@ def smallest_nesting_size_m(axis: str, shape: str, inner, frame: FrameSpec, lowe
     if not inner or ok(lower_m):
         return float(lower_m)
     lo = float(lower_m)
-    hi = (math.floor(lo / NESTING_STEP_M) + 1) * NESTING_STEP_M
-    while not ok(hi):
-        lo, hi = hi, hi + NESTING_STEP_M
+    first = (math.floor(lo / NESTING_STEP_M) + 1) * NESTING_STEP_M
+    coarse = 4 * NESTING_STEP_M
+    hi = first
+    while not ok(hi):  # coarse scan, every fourth grid point
+        lo, hi = hi, hi + coarse
         if hi > upper_m:
             raise ValueError(f"no {shape} {axis} pair up to {upper_m:g} m clears the inner pairs")
+    for k in (3, 2, 1):  # the grid points just below the first coarse hit, lowest first
+        trial = hi - k * NESTING_STEP_M
+        if trial > lo + 1e-12 and trial >= first - 1e-12 and ok(trial):
+            hi = trial
+            break
+        if trial > lo + 1e-12:
+            lo = max(lo, trial)
     return _bisect_edge(ok, good=hi, bad=lo, tolerance=tolerance_m)
 
 

@@ -11,9 +11,10 @@ electrical model, no Taylor estimates):
    the innermost pair takes its smallest uniform size; each pair further out takes the
    smallest size that is both uniform and clears the frames of the pairs inside it
    (``cage.layout``). A smaller cage needs less power and copper for the same field, so the
-   smallest nested sizes are taken. The nesting is greedy: frame clearance is not monotone
-   in size, and occasionally a slightly larger inner pair would let an outer pair shrink by
-   a few centimetres; the planner does not search for that.
+   smallest nested sizes are taken first. Frame clearance is not monotone in size, so a
+   slightly larger inner pair can let an outer pair shrink: for the three smallest
+   candidates the two inner pairs are also tried 3-15 % above their smallest sizes
+   (``INFLATIONS``), and every variant competes on the objective.
 3. Windings: per axis, the field needed is |ambient component| + extra field. For each allowed
    wire, the turns range from the fewest that reach the field within the supply's current, to
    the most that fit the frame channel, and no more than keep the full-range current at or
@@ -49,6 +50,9 @@ MIN_CURRENT_FRACTION = 0.5
 UNIFORMITY_GRID = 9
 SIZE_PRECISION = 2e-4  # relative, bisection on the uniform size
 MAX_SIZE_M = 50.0
+REFINED_CANDIDATES = 3
+INFLATIONS = ((1.03, 1.0), (1.06, 1.0), (1.1, 1.0), (1.15, 1.0), (1.0, 1.04), (1.0, 1.08), (1.06, 1.04),
+              (1.1, 1.08))
 
 
 @dataclass(frozen=True)
@@ -418,40 +422,60 @@ def plan_cage(inp: PlanInputs) -> Plan:
     orders = [inp.axis_order] if inp.axis_order else list(itertools.permutations(AXES))
     nest_cache: dict = {}
 
-    def nested_size(axis: str, shape: str, inner: tuple[CoilPair, ...]) -> float:
-        key = (axis, shape, inner)
+    def nested_size(axis: str, shape: str, inner: tuple[CoilPair, ...], inflate: float) -> float:
+        key = (axis, shape, inner, inflate)
         if key not in nest_cache:
             size, ratio = uniform[(axis, shape)]
             try:
-                nest_cache[key] = smallest_nesting_size_m(axis, shape, list(inner), frame, size,
+                nest_cache[key] = smallest_nesting_size_m(axis, shape, list(inner), frame, size * inflate,
                                                           spacing_per_size=ratio, upper_m=MAX_SIZE_M)
             except ValueError:
                 nest_cache[key] = math.inf
         return nest_cache[key]
+
+    def nest(order, shape_of, inflate=(1.0, 1.0)):
+        """Pairs placed innermost first; the two inner pairs may start above their uniform size."""
+        placed: list[CoilPair] = []
+        for depth, axis in enumerate(reversed(order)):  # innermost first
+            shape = shape_of[axis]
+            size = nested_size(axis, shape, tuple(placed), inflate[depth] if depth < 2 else 1.0)
+            if not math.isfinite(size):
+                return None
+            ratio = uniform[(axis, shape)][1]
+            placed.append(CoilPair(axis, shape, size, ratio * size, 1))
+        by_axis = {p.axis: p for p in placed}
+        return CoilCage(by_axis["x"], by_axis["y"], by_axis["z"])
 
     candidates = []
     room_misses = []
     for order in orders:
         for shapes in itertools.product(inp.shapes, repeat=3):
             shape_of = dict(zip(order, shapes))
-            placed: list[CoilPair] = []
-            for axis in reversed(order):  # innermost first
-                shape = shape_of[axis]
-                size = nested_size(axis, shape, tuple(placed))
-                if not math.isfinite(size):
-                    break
-                ratio = uniform[(axis, shape)][1]
-                placed.append(CoilPair(axis, shape, size, ratio * size, 1))
-            if len(placed) < 3:
+            cage = nest(order, shape_of)
+            if cage is None:
                 continue
-            by_axis = {p.axis: p for p in placed}
-            cage = CoilCage(by_axis["x"], by_axis["y"], by_axis["z"])
             layout = check_layout(cage, frame, inp.room)
             if not layout.fits_room:
                 over = np.array(layout.envelope_m) / np.array(layout.room_inner_m)
                 room_misses.append((float(np.max(over)), order, layout))
                 continue
-            candidates.append((order, cage, layout))
+            candidates.append((order, cage, layout, shape_of))
+
+    # Greedy nesting is not always best: a slightly larger inner pair can let an outer pair
+    # shrink. Try inflated inner pairs for the few smallest candidates.
+    smallest = sorted(candidates, key=lambda c: (float(np.prod(c[2].envelope_m)), candidates.index(c)))
+    for order, cage0, _, shape_of in smallest[:REFINED_CANDIDATES]:
+        bound = [p.size_m > uniform[(p.axis, p.shape)][0] * (1 + 1e-9) for p in cage0.pairs]
+        if not any(bound):
+            continue  # every pair at its own uniform minimum: nothing to gain
+        for inflate in INFLATIONS:
+            cage = nest(order, shape_of, inflate)
+            if cage is None:
+                continue
+            layout = check_layout(cage, frame, inp.room)
+            if layout.fits_room:
+                candidates.append((order, cage, layout, shape_of))
+    candidates = [c[:3] for c in candidates]
 
     if not candidates:
         over, order, layout = min(room_misses, key=lambda m: m[0])
