@@ -129,16 +129,10 @@ def _count(p, key, value):
 
 def load_calibration_record(path: str | os.PathLike) -> CalibrationRecord:
     """Read and validate a calibration file; see the module docstring for the keys."""
-    from cage.textfile import read_text
+    from cage.textfile import parse_json, read_text
 
     p = Path(path)
-    text = read_text(p, "calibration file")
-    try:
-        doc = json.loads(text)
-    except json.JSONDecodeError as exc:
-        raise InputError(f"{p}: line {exc.lineno}, column {exc.colno}: not valid JSON ({exc.msg})") from None
-    except RecursionError:
-        raise InputError(f"{p}: not valid JSON (nested too deeply)") from None
+    doc = parse_json(read_text(p, "calibration file"), str(p))
     if not isinstance(doc, dict):
         raise InputError(f"{p}: expected a JSON object with \"format\": \"{FORMAT}\"")
     if doc.get("format") != FORMAT:

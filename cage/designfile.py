@@ -388,15 +388,10 @@ def _parse_constant(name: str) -> float:
 def load_design(path: str | os.PathLike) -> Design:
     """Read and validate a ``cage-design`` JSON file; InputError (one line) when it is wrong."""
     where = str(path)
-    from cage.textfile import read_text
+    from cage.textfile import parse_json, read_text
 
-    text = read_text(path, "design file")
-    try:
-        obj = json.loads(text, object_pairs_hook=_pairs_hook, parse_constant=_parse_constant)
-    except json.JSONDecodeError as exc:
-        raise InputError(f"{where}: not valid JSON at line {exc.lineno}, column {exc.colno}: {exc.msg}") from None
-    except RecursionError:
-        raise InputError(f"{where}: not valid JSON (nested too deeply)") from None
+    obj = parse_json(read_text(path, "design file"), where, object_pairs_hook=_pairs_hook,
+                     parse_constant=_parse_constant)
     return design_from_dict(obj, where)
 
 

@@ -38,15 +38,19 @@ def read_text(path: str | os.PathLike, what: str = "file") -> str:
     return text
 
 
+def parse_json(text: str, where: str, **json_options):
+    """Any JSON value from ``text``; syntax errors name ``where``, the line and the column."""
+    try:
+        return json.loads(text, **json_options)
+    except json.JSONDecodeError as exc:
+        raise InputError(f"{where}: not valid JSON at line {exc.lineno}, column {exc.colno}: {exc.msg}") from None
+    except RecursionError:
+        raise InputError(f"{where}: not valid JSON (nested too deeply)") from None
+
+
 def read_json_object(path: str | os.PathLike, what: str = "JSON file", **json_options) -> dict:
     """A JSON object from ``path``; syntax errors name the line and column."""
-    text = read_text(path, what)
-    try:
-        doc = json.loads(text, **json_options)
-    except json.JSONDecodeError as exc:
-        raise InputError(f"{path}: not JSON (line {exc.lineno}, column {exc.colno}: {exc.msg})") from None
-    except RecursionError:
-        raise InputError(f"{path}: JSON nested too deeply") from None
+    doc = parse_json(read_text(path, what), str(path), **json_options)
     if not isinstance(doc, dict):
         raise InputError(f"{path}: must hold a JSON object ({what})")
     return doc

@@ -37,6 +37,17 @@ def run_cli(capsys):
     return _run
 
 
+def cli_code(*args) -> int:
+    """Run ``cage`` in-process outside a fixture; return its exit code."""
+    from cage.cli import main
+
+    try:
+        main([str(a) for a in args])
+    except SystemExit as exc:
+        return exc.code if isinstance(exc.code, int) else 1
+    return 0
+
+
 def assert_one_line_error(run: Run, *fragments: str, code: int = 2) -> None:
     """A user error: the given exit code, one plain line on stderr, no traceback."""
     assert run.code == code, run

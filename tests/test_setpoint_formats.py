@@ -23,7 +23,7 @@ import re
 
 import pytest
 
-from conftest import SITES
+from conftest import SITES, cli_code
 
 AXES = ("x", "y", "z")
 FIXED = ["null", "+x", "-x", "+y", "-y", "+z", "-z"]
@@ -34,14 +34,7 @@ NUMBER = r"[+-]?\d+(?:\.\d+)?"
 SCPI_COMMAND = re.compile(rf"^(INST:NSEL [123]|VOLT {NUMBER}|CURR {NUMBER}|OUTP ON)$")
 
 
-def _cli(*args) -> int:
-    from cage.cli import main
-
-    try:
-        main([str(a) for a in args])
-    except SystemExit as exc:
-        return exc.code if isinstance(exc.code, int) else 1
-    return 0
+_cli = cli_code
 
 
 @pytest.fixture(scope="module")

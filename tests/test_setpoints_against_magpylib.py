@@ -24,7 +24,7 @@ import pytest
 
 magpy = pytest.importorskip("magpylib")
 
-from conftest import SITES  # noqa: E402
+from conftest import SITES, cli_code  # noqa: E402
 from test_igrf_against_chaosmagpy import chaos_ned_nT  # noqa: E402
 from test_planner_against_magpylib import cage_from_ned, mag_cage_field_T  # noqa: E402
 
@@ -34,14 +34,7 @@ AMBIENT_TOL_NT = 0.5
 TARGETS_CSV = "label,x_uT,y_uT,z_uT,frame\ntilted,10,-20,30,cage\nnorth50,50,0,0,ned\nbig,0,0,-150,cage\n"
 
 
-def _cli(*args) -> int:
-    from cage.cli import main
-
-    try:
-        main([str(a) for a in args])
-    except SystemExit as exc:
-        return exc.code if isinstance(exc.code, int) else 1
-    return 0
+_cli = cli_code
 
 
 @pytest.fixture(scope="module")
