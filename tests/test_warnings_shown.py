@@ -279,3 +279,20 @@ def test_readme_has_the_cautions():
         assert topic in section, topic
     # the extrapolation past the predictive span is documented where the model's limits are
     assert re.search(r"predictive span \(2030\)", text)
+
+
+def test_winding_pack_uniformity_warning_both_sides():
+    # The warning names an axis whose real winding pack misses the tolerance, and only then.
+    from types import SimpleNamespace
+
+    from cage.optimise import plan_warnings
+
+    axis = SimpleNamespace(pair=SimpleNamespace(axis="z"), supply=SimpleNamespace(bipolar=True),
+                           electrics=SimpleNamespace(current_density_high=False, winding_temperature_C=25.0,
+                                                     current_density_A_per_mm2=1.0),
+                           drive=SimpleNamespace(voltage_V=10.0))
+    inp = SimpleNamespace(uniformity=0.001, max_winding_temperature_C=60.0)
+    over = plan_warnings([axis], inp, [SimpleNamespace(box_deviation_pack=0.00101)])
+    under = plan_warnings([axis], inp, [SimpleNamespace(box_deviation_pack=0.00099)])
+    assert any("winding pack" in w and "axis z" in w for w in over)
+    assert not any("winding pack" in w for w in under)
