@@ -411,15 +411,11 @@ def _as_points(points_m) -> tuple[np.ndarray, bool]:
     return pts, single
 
 
-def _evaluate(pts: np.ndarray, polygons: Sequence[Polygon], loops: Sequence[Loop],
-              chunk_points: int) -> np.ndarray:
+def _chunked(pts: np.ndarray, chunk_points: int, accumulate) -> np.ndarray:
+    """(n, 3) field: ``accumulate(x, y, z, bx, by, bz)`` adds into bx, by, bz for each chunk of
+    points, so memory stays bounded whatever n is."""
     n = pts.shape[0]
     out = np.zeros((n, 3))
-    setups = [(p.vertices_m, *_polygon_setup(p.vertices_m, True), p.current_A)
-              for p in polygons if p.current_A != 0.0]
-    loop_list = [lp for lp in loops if lp.current_A != 0.0]
-    if n == 0 or (not setups and not loop_list):
-        return out
     with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
         for s in range(0, n, chunk_points):
             e = min(n, s + chunk_points)
@@ -429,15 +425,28 @@ def _evaluate(pts: np.ndarray, polygons: Sequence[Polygon], loops: Sequence[Loop
             bx = np.zeros(e - s)
             by = np.zeros(e - s)
             bz = np.zeros(e - s)
-            for verts, units, lengths, cur in setups:
-                _polygon_chunk(x, y, z, verts, units, lengths, cur, bx, by, bz)
-            for lp in loop_list:
-                _loop_core(x, y, z, lp.centre_m, lp.normal, lp.radius_m, lp.current_A,
-                           bx, by, bz)
+            accumulate(x, y, z, bx, by, bz)
             out[s:e, 0] = bx
             out[s:e, 1] = by
             out[s:e, 2] = bz
     return out
+
+
+def _evaluate(pts: np.ndarray, polygons: Sequence[Polygon], loops: Sequence[Loop],
+              chunk_points: int) -> np.ndarray:
+    setups = [(p.vertices_m, *_polygon_setup(p.vertices_m, True), p.current_A)
+              for p in polygons if p.current_A != 0.0]
+    loop_list = [lp for lp in loops if lp.current_A != 0.0]
+    if pts.shape[0] == 0 or (not setups and not loop_list):
+        return np.zeros((pts.shape[0], 3))
+
+    def accumulate(x, y, z, bx, by, bz):
+        for verts, units, lengths, cur in setups:
+            _polygon_chunk(x, y, z, verts, units, lengths, cur, bx, by, bz)
+        for lp in loop_list:
+            _loop_core(x, y, z, lp.centre_m, lp.normal, lp.radius_m, lp.current_A, bx, by, bz)
+
+    return _chunked(pts, chunk_points, accumulate)
 
 
 def filaments_field_T(points_m, polygons: Sequence[Polygon] = (), loops: Sequence[Loop] = (),
@@ -486,25 +495,15 @@ def segment_field_T(points_m, starts_m, ends_m, currents_A) -> np.ndarray:
     cur = np.broadcast_to(np.asarray(currents_A, dtype=float), (a.shape[0],))
     if not (np.all(np.isfinite(a)) and np.all(np.isfinite(b)) and np.all(np.isfinite(cur))):
         raise ValueError("segment ends and currents must be finite")
-    n = pts.shape[0]
-    out = np.zeros((n, 3))
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
-        for s in range(0, n, CHUNK_POINTS):
-            e = min(n, s + CHUNK_POINTS)
-            x = np.ascontiguousarray(pts[s:e, 0])
-            y = np.ascontiguousarray(pts[s:e, 1])
-            z = np.ascontiguousarray(pts[s:e, 2])
-            bx = np.zeros(e - s)
-            by = np.zeros(e - s)
-            bz = np.zeros(e - s)
-            for k in range(a.shape[0]):
-                if cur[k] == 0.0:
-                    continue
-                verts = np.stack([a[k], b[k]])
-                units, lengths = _polygon_setup(verts, closed=False)
-                _polygon_chunk(x, y, z, verts, units, lengths, float(cur[k]), bx, by, bz,
-                               closed=False)
-            out[s:e, 0] = bx
-            out[s:e, 1] = by
-            out[s:e, 2] = bz
+    segments = []
+    for k in range(a.shape[0]):
+        if cur[k] != 0.0:
+            verts = np.stack([a[k], b[k]])
+            segments.append((verts, *_polygon_setup(verts, closed=False), float(cur[k])))
+
+    def accumulate(x, y, z, bx, by, bz):
+        for verts, units, lengths, current in segments:
+            _polygon_chunk(x, y, z, verts, units, lengths, current, bx, by, bz, closed=False)
+
+    out = _chunked(pts, CHUNK_POINTS, accumulate)
     return out[0] if single else out

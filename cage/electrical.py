@@ -23,6 +23,7 @@ import numbers
 from dataclasses import dataclass
 
 from cage.coils import SHAPES, CoilPair
+from cage.checks import positive_number as _positive
 from cage.errors import InputError
 from cage.inductance import gmd_layered_pack_m, pair_inductance, round_wire_correction_H
 from cage.thermal import (
@@ -115,16 +116,6 @@ class AxisElectrics:
     def circuit_resistance_ohm(self) -> float:
         """What the supply sees: hot winding plus leads at ambient (inf on runaway)."""
         return self.resistance_hot_ohm + self.lead_resistance_ambient_ohm
-
-
-def _positive(value: float, what: str) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"{what} must be a number, got {value!r}") from None
-    if not math.isfinite(v) or v <= 0.0:
-        raise InputError(f"{what} must be a positive number, got {value!r}")
-    return v
 
 
 def _turns(turns: object, what: str = "turns") -> int:

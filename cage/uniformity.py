@@ -31,6 +31,7 @@ from functools import lru_cache
 import numpy as np
 
 from cage.coils import AXES, CoilCage, CoilPair, FilamentPack, check_cage, check_pair, pair_field_T
+from cage.checks import positive_number as _positive
 from cage.errors import InputError
 
 __all__ = [
@@ -50,16 +51,6 @@ __all__ = [
 
 DEFAULT_BOX_GRID = 9
 DEFAULT_SPHERE_POINTS = 600
-
-
-def _positive(value, what: str) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise InputError(f"{what} must be a number, got {value!r}") from None
-    if not math.isfinite(v) or v <= 0:
-        raise InputError(f"{what} must be a positive finite number, got {value!r}")
-    return v
 
 
 def _box_sides(box_m) -> np.ndarray:
