@@ -233,6 +233,7 @@ def design_table(plan, inp, packs=()) -> str:
         ("lead resistance", lambda a: f"{a.electrics.lead_resistance_ambient_ohm:.3f}", "ohm"),
         ("inductance", lambda a: f"{a.electrics.inductance_H * 1e3:.2f}", "mH"),
         ("time constant L/R", lambda a: f"{a.electrics.time_constant_s * 1e3:.2f}", "ms"),
+        ("field slew at full range", lambda a: f"{_field_slew_uT_per_s(a):.0f}", "uT/s"),
         ("field per ampere", lambda a: f"{a.field_per_amp_nT / 1000:.3f}", "uT/A"),
         ("full-range field", lambda a: f"{a.needed_field_nT / 1000:.2f}", "uT"),
         ("full-range current", lambda a: f"{a.full_current_A:.3f}", "A"),
@@ -279,6 +280,14 @@ def _packs_of(design_obj):
         return ()
     return tuple(types.SimpleNamespace(centre_relative=c, box_max_relative=b, box_deviation_pack=u)
                  for c, b, u in zip(*(lay[k] for k in keys)))
+
+
+def _field_slew_uT_per_s(axis_plan) -> float:
+    """Largest field slew the supply allows at full range: (V_max - I R) / L x field per amp."""
+    from cage.electrical import field_slew_nT_per_s
+
+    return field_slew_nT_per_s(axis_plan.electrics, axis_plan.supply.max_voltage_V,
+                               axis_plan.field_per_amp_nT) / 1000.0
 
 
 def _design_cautions(plan, inp) -> list[str]:

@@ -26,7 +26,7 @@ SITE = SITES / "smallsat-lab.toml"
 BASE = SITE.read_text(encoding="utf-8")
 
 UNITS = {"ppm", "nT", "uT", "mT", "nT/yr", "nT/year", "deg", "m", "mm", "A", "mA", "V", "W", "ohm", "mH", "H", "ms", "s",
-         "uT/A", "nT/A", "%", "C", "kg", "A/mm^2", "Hz", "d", "days"}
+         "uT/A", "nT/A", "uT/s", "%", "C", "kg", "A/mm^2", "Hz", "d", "days"}
 NUMBER = re.compile(r"(?<![\w.^/])[-+]?\d[\d,]*(?:\.\d+)?(?:e[-+]?\d+)?(?![\w.])")
 # Names and dates that hold digits but are not quantities.
 NOT_QUANTITIES = [re.compile(p) for p in (r"\d{4}-\d{2}-\d{2}", r"IGRF-\d+", r"WGS84", r"AWG \d+")]
