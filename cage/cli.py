@@ -984,6 +984,11 @@ def sequence(
         typer.echo(f"Wrote {plot}", err=out is None and kind != "table")
 
 
+from cage import cmd_build as _cmd_build  # noqa: E402
+
+_cmd_build.register(app)
+
+
 # ----------------------------------------------------------------------------- entry point
 
 def main(argv: Optional[list[str]] = None) -> None:
