@@ -22,15 +22,32 @@ from cage.errors import EXIT_UNEXPECTED, CageError, InputError
 
 app = typer.Typer(
     add_completion=False,
-    no_args_is_help=True,
+    no_args_is_help=False,  # "cage" alone: the callback prints the help and exits 0
     pretty_exceptions_enable=False,
+    rich_markup_mode=None,  # help texts hold [room], [[supply]]: plain text, not markup
+    context_settings={"help_option_names": ["-h", "--help"]},
     help="Plan, drive and correct three-axis magnetic coil cages.",
 )
 
 
-@app.callback()
-def _root() -> None:
+def _show_version(value: bool) -> None:
+    if value:
+        from cage import __version__
+
+        typer.echo(f"cage {__version__}")
+        raise typer.Exit()
+
+
+@app.callback(invoke_without_command=True)
+def _root(
+    ctx: typer.Context,
+    version: bool = typer.Option(False, "--version", callback=_show_version, is_eager=True,
+                                 help="Print the program's version and exit."),
+) -> None:
     """Plan, drive and correct three-axis magnetic coil cages (see the README)."""
+    if ctx.invoked_subcommand is None:
+        typer.echo(ctx.get_help())
+        raise typer.Exit()
 
 
 # ----------------------------------------------------------------------------- helpers
@@ -40,8 +57,15 @@ def _say(text: str = "") -> None:
 
 
 def _warn(text: str) -> None:
-    if text:
-        typer.echo(text if text.startswith("warning") else f"warning: {text}", err=True)
+    """One plain line on stderr: "caution: ..." for safety cautions, else "warning: ..."."""
+    line = " ".join(str(text or "").split())
+    if not line:
+        return
+    for prefix in ("warning:", "caution:"):
+        if line.lower().startswith(prefix):
+            typer.echo(f"{prefix} {line[len(prefix):].lstrip()}", err=True)
+            return
+    typer.echo(f"warning: {line}", err=True)
 
 
 def _dump_json(obj) -> str:
