@@ -73,7 +73,8 @@ def _dump_json(obj) -> str:
 
 
 def _fmt(value: float, digits: int = 1) -> str:
-    return f"{value:,.{digits}f}"
+    text = f"{value:,.{digits}f}"
+    return text[1:] if text.startswith("-") and float(text.replace(",", "")) == 0.0 else text  # no "-0.0"
 
 
 def _resolve_site(site_file: Optional[Path], lat: Optional[float], lon: Optional[float],
@@ -94,7 +95,7 @@ def _resolve_site(site_file: Optional[Path], lat: Optional[float], lon: Optional
             heading_reference="magnetic" if heading_magnetic else "true",
         )
         return sitefile.Site(
-            name=f"{location.latitude_deg:g}, {location.longitude_deg:g}", date=when, date_given=date is not None,
+            name=_place_name(location.latitude_deg, location.longitude_deg), date=when, date_given=date is not None,
             location=location, orientation=orientation, room=None, requirement=sitefile.Requirement(),
             coil=sitefile.CoilSettings(), supplies=(), measured=None, source="command line")
     site = sitefile.load_site(site_file)
@@ -113,6 +114,13 @@ def _resolve_site(site_file: Optional[Path], lat: Optional[float], lon: Optional
             heading_reference="magnetic" if heading_magnetic else site.orientation.heading_reference)
         site = dataclasses.replace(site, orientation=orientation)
     return site
+
+
+def _place_name(lat_deg: float, lon_deg: float) -> str:
+    """A place given by numbers, named as a person reads it: "33.9 deg S, 70.5 deg W"."""
+    from cage.numberformat import latitude_text, longitude_text
+
+    return f"{latitude_text(lat_deg, 4)}, {longitude_text(lon_deg, 4)}".replace("000 deg", " deg")
 
 
 SiteArg = typer.Argument(None, help="Site file (TOML). Omit it to give the place with --lat/--lon.",
@@ -163,10 +171,13 @@ def field_summary(site, amb) -> dict:
 
 
 def field_table(site, amb) -> str:
+    from cage.numberformat import azimuth_text, latitude_text, longitude_text
+
     e = amb.earth
     lines = [
         f"Site        {site.name}",
-        f"Position    {e.latitude_deg:.4f} deg N, {e.longitude_deg:.4f} deg E, {e.altitude_m:.0f} m (WGS84)",
+        f"Position    {latitude_text(e.latitude_deg)}, {longitude_text(e.longitude_deg)}, "
+        f"{_fmt(e.altitude_m, 0)} m (WGS84)",
         f"Date        {e.date.isoformat()}{'' if site.date_given else ' (today, UTC)'}   model {e.model}",
         "",
         "Geographic frame (NED)         field          secular variation",
@@ -180,9 +191,9 @@ def field_table(site, amb) -> str:
         "",
     ]
     ref = amb.heading_reference
-    head = f"Cage frame   +x at {amb.heading_true_deg:.2f} deg true"
+    head = f"Cage frame   +x at {azimuth_text(amb.heading_true_deg)} deg true"
     if ref == "magnetic":
-        head += f" ({amb.heading_deg_given:.2f} deg magnetic + declination)"
+        head += f" ({azimuth_text(amb.heading_deg_given)} deg magnetic + declination)"
     lines.append(head + ", +y 90 deg clockwise of +x, +z down")
     if amb.measured_cage_nT is None:
         for axis, v in zip("xyz", amb.model_cage_nT):
@@ -248,7 +259,8 @@ def design_table(plan, inp, packs=()) -> str:
     """The per-axis summary of ``cage design``; ``packs``: optional winding-pack differences."""
     rows = [
         ("shape", lambda a: a.pair.shape, ""),
-        ("size (side or radius)", lambda a: f"{a.pair.size_m:.3f}", "m"),
+        ("side (square) or diameter (round)",
+         lambda a: f"{a.pair.size_m * (1 if a.pair.shape == 'square' else 2):.3f}", "m"),
         ("spacing", lambda a: f"{a.pair.spacing_m:.3f}", "m"),
         ("turns per coil", lambda a: f"{a.pair.turns}", ""),
         ("wire", lambda a: a.wire, ""),

@@ -232,6 +232,18 @@ def _section(anchor: str, title: str, body: str, major: bool = True, extra_class
     return f'<section id="{anchor}"{attr}>\n<h2>{_esc(title)}</h2>\n{body}\n</section>'
 
 
+def _place(value, kind: str) -> str:
+    """Latitude N/S, longitude E/W or an azimuth in 0-360 degrees (cage.numberformat), escaped."""
+    from cage.numberformat import azimuth_text, latitude_text, longitude_text
+
+    v = _number(value)
+    if v is None:
+        return _fmt(value, 4)
+    if kind == "azimuth":
+        return _esc(azimuth_text(v) + "°")
+    return _esc((latitude_text if kind == "lat" else longitude_text)(v, 4, "°"))
+
+
 def _field_section(field: Mapping) -> str:
     parts = []
     site = field.get("site") or field.get("name")
@@ -241,10 +253,10 @@ def _field_section(field: Mapping) -> str:
     pairs += [
         ("field model", _esc(field.get("model", DASH))),
         ("date", _esc(field.get("date", DASH))),
-        ("latitude (geodetic, north positive)", _fmt(field.get("lat_deg"), 4, "°")),
-        ("longitude (east positive)", _fmt(field.get("lon_deg"), 4, "°")),
+        ("latitude (geodetic)", _place(field.get("lat_deg"), "lat")),
+        ("longitude", _place(field.get("lon_deg"), "lon")),
         ("altitude above the WGS84 ellipsoid", _fmt(field.get("alt_m"), 1, "m")),
-        ("heading of cage +x (true azimuth, clockwise from north)", _fmt(field.get("heading_deg"), 2, "°")),
+        ("heading of cage +x (true azimuth, clockwise from north)", _place(field.get("heading_deg"), "azimuth")),
     ]
     parts.append("<h3>Site</h3>")
     parts.append(_kv_table(pairs))
@@ -293,8 +305,8 @@ def _design_section(design: Mapping) -> str:
     def size(d):
         if "side_m" in d:
             return _fmt(d.get("side_m"), 3, "m") + " side"
-        if "radius_m" in d:
-            return _fmt(d.get("radius_m"), 3, "m") + " radius"
+        if _number(d.get("radius_m")) is not None:  # sizes read as diameters, as in the build sheet
+            return _fmt(2 * _number(d.get("radius_m")), 3, "m") + " diameter"
         return DASH
 
     def field_at_max(d):
