@@ -716,13 +716,18 @@ def write_report(folder: Path, field_doc, design_doc, setpoints_doc, pngs: dict)
     from cage.atomicfile import write_bytes, write_text
     from cage.report import build_report
 
-    for name, data in pngs.items():
+    from cage.cmd_build import bom_csv, report_build
+
+    sheet, build_doc, build_pngs = report_build(design_doc)
+    for name, data in {**pngs, **build_pngs}.items():
         write_bytes(folder / name, data)
+    write_text(folder / "build.csv", bom_csv(sheet))
     title = "Coil cage report"
     if isinstance(field_doc, dict) and field_doc.get("site"):
         title += f": {field_doc['site']}"
     html = build_report(field=field_doc, design=design_doc, setpoints=setpoints_doc,
-                        figures={FIGURES[name]: data for name, data in pngs.items()}, title=title)
+                        figures={FIGURES[name]: data for name, data in pngs.items()}, title=title,
+                        build=build_doc, build_figures=build_pngs)
     return write_text(folder / "report.html", html)
 
 
@@ -752,7 +757,7 @@ def report(
         raise InputError(f"{folder / 'setpoints.json'}: not a cage-setpoints file")
     pngs = make_figures(design_obj, design_doc, setpoints_doc)
     path = write_report(folder, field_doc, design_doc, setpoints_doc, pngs)
-    _say(f"Wrote {path} and {', '.join(pngs)}")
+    _say(f"Wrote {path}, build.csv, connection_x/y/z.png and {', '.join(pngs)}")
 
 
 # ----------------------------------------------------------------------------- plan
@@ -802,7 +807,7 @@ def plan(
     _say(setpoints_text(table))
     for line in _design_cautions(plan_obj, inp) + list(table.warnings):
         _warn(line)
-    _say("Wrote " + ", ".join(list(texts) + list(pngs) + ["report.html"]))
+    _say("Wrote " + ", ".join(list(texts) + list(pngs) + ["connection_x/y/z.png", "build.csv", "report.html"]))
 
 
 # ----------------------------------------------------------------------------- calibrate

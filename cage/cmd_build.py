@@ -137,6 +137,23 @@ def _cell(value):
     return value
 
 
+def sheet_for_design(design_obj):
+    """The build sheet of a design with the supplies it records (none: suits either kind)."""
+    from cage.buildsheet import build_sheet
+    from cage.cli import _design_supplies
+
+    return build_sheet(design_obj, _design_supplies(design_obj))
+
+
+def report_build(design_doc: dict, name: str = "design.json"):
+    """(sheet, its JSON document, connection PNGs) for the report of a plan folder."""
+    from cage.connectionfigure import connection_pngs
+    from cage.designfile import design_from_dict
+
+    sheet = sheet_for_design(design_from_dict(design_doc, name))
+    return sheet, sheet_to_dict(sheet, name), connection_pngs(sheet)
+
+
 def register(app: typer.Typer) -> None:
     """Add ``cage build`` to the application."""
 

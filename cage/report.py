@@ -331,12 +331,9 @@ def _design_section(design: Mapping) -> str:
     if isinstance(env, (list, tuple)) and len(env) == 3:
         parts.append(f"<p>Outer envelope of the frames (x × y × z): "
                      f"{' × '.join(_fmt(v, 3) for v in env)}{NBSP}m.</p>")
-    for key, title in (("requirement", "Requirement"), ("layout", "Layout")):
-        obj = design.get(key)
-        if isinstance(obj, Mapping) and obj:
-            parts.append(f"<h3>{_esc(title)}</h3>")
-            parts.append(_table(("key (unit in the name)", "value"),
-                                [(_esc(k), _auto(v)) for k, v in obj.items()], numeric_from=2))
+    from cage.reportsections import requirement_and_layout
+
+    parts.append(requirement_and_layout(design))
     if design.get("notes"):
         parts.append(f"<p class=\"note\">{_esc(design['notes'])}</p>")
     return _section("design", "Design", "\n".join(parts))
@@ -481,12 +478,14 @@ def _get(values, axis: str, index: int):
 
 
 def _figures_section(figures: Mapping[str, bytes]) -> str:
-    parts = []
-    for title, data in figures.items():
-        b64 = base64.b64encode(bytes(data)).decode("ascii")
-        parts.append(f'<figure><img alt="{_esc(title)}" src="data:image/png;base64,{b64}">'
-                     f"<figcaption>{_esc(title)}</figcaption></figure>")
-    return _section("figures", "Figures", "\n".join(parts))
+    return _section("figures", "Figures", "\n".join(figure_html(t, d) for t, d in figures.items()))
+
+
+def figure_html(title: str, data: bytes) -> str:
+    """One embedded PNG figure with its caption."""
+    b64 = base64.b64encode(bytes(data)).decode("ascii")
+    return (f'<figure><img alt="{_esc(title)}" src="data:image/png;base64,{b64}">'
+            f"<figcaption>{_esc(title)}</figcaption></figure>")
 
 
 def _dl(items) -> str:
@@ -500,12 +499,15 @@ def _dl(items) -> str:
 
 def build_report(*, field: Mapping | None = None, design: Mapping | None = None,
                  setpoints: Mapping | None = None, figures: Mapping[str, bytes] | None = None,
-                 notes: Sequence[str] = (), title: str = "Coil cage report") -> str:
+                 notes: Sequence[str] = (), title: str = "Coil cage report",
+                 build: Mapping | None = None, build_figures: Mapping[str, bytes] | None = None) -> str:
     """One self-contained HTML document (str) from the parsed documents and PNG figures.
 
     field: the object ``cage field --json`` prints (model, date, lat_deg, ..., cage_frame_nT);
     design: a ``cage-design`` v1 document; setpoints: a ``cage-setpoints`` v1 document;
     figures: title -> PNG bytes, embedded in the given order; notes: free text lines.
+    build: a ``cage-build`` document (``cage build --json``) and build_figures its connection
+    figures {"connection_x.png": PNG bytes, ...} (``cage.reportsections.build_section``).
     A document that is None leaves its sections out. Raises InputError when a figure is not
     PNG data or a document is not an object.
     """
@@ -533,6 +535,11 @@ def build_report(*, field: Mapping | None = None, design: Mapping | None = None,
         if budget:
             sections.append(budget)
             toc.append(("budget", "Electrical and thermal budget"))
+    if build is not None:
+        from cage.reportsections import build_section
+
+        sections.append(build_section(build, build_figures or {}))
+        toc.append(("build", "Build sheet"))
     if setpoints is not None:
         sections.append(_setpoints_section(setpoints))
         toc.append(("setpoints", "Setpoints"))
@@ -557,6 +564,9 @@ def build_report(*, field: Mapping | None = None, design: Mapping | None = None,
     if model:
         subtitle_bits.append(f"field model: {model}")
     subtitle = f'<p class="sub">{_esc("; ".join(subtitle_bits))}</p>' if subtitle_bits else ""
+    from cage.reportsections import validity_paragraph
+
+    subtitle += validity_paragraph(field)
     nav = ("<nav><ol>" + "".join(f'<li><a href="#{a}">{_esc(t)}</a></li>' for a, t in toc)
            + "</ol></nav>")
 

@@ -256,6 +256,23 @@ class Drift:
     days_until_threshold_per_axis: tuple[float, float, float]
 
 
+def days_until_drift(sv_cage_nT_per_year, threshold_nT: float = DRIFT_THRESHOLD_NT) -> float:
+    """Days until the model's secular variation (nT/year, cage frame) moves the null by threshold_nT.
+
+    |dB/dt| t = threshold, with the year as 365.25 days; infinite without secular variation.
+    """
+    rate = float(np.linalg.norm(np.asarray(sv_cage_nT_per_year, dtype=float)))
+    return math.inf if rate == 0 else threshold_nT / rate * 365.25
+
+
+def valid_until(date: _dt.date, sv_cage_nT_per_year, threshold_nT: float = DRIFT_THRESHOLD_NT) -> _dt.date | None:
+    """The date by which the null drifts by threshold_nT from ``date``; None when it never does."""
+    days = days_until_drift(sv_cage_nT_per_year, threshold_nT)
+    if not math.isfinite(days) or days > 365.25 * 100:
+        return None
+    return date + _dt.timedelta(days=int(days))
+
+
 def null_drift(now: SetpointTable, previous: dict, sv_cage_nT_per_year, threshold_nT: float = DRIFT_THRESHOLD_NT
                ) -> Drift:
     """Compare the null row of ``now`` with the null row of a previous table's JSON document."""
@@ -268,8 +285,7 @@ def null_drift(now: SetpointTable, previous: dict, sv_cage_nT_per_year, threshol
     k = np.asarray(now.coupling_nT_per_A)
     change = new_i - old_i
     sv = np.asarray(sv_cage_nT_per_year, dtype=float)
-    rate = float(np.linalg.norm(sv))
-    days = math.inf if rate == 0 else threshold_nT / rate * 365.25
+    days = days_until_drift(sv, threshold_nT)
     per_axis = tuple(math.inf if v == 0 else threshold_nT / abs(v) * 365.25 for v in sv)
     prev_date = None
     if isinstance(previous.get("date"), str):

@@ -44,10 +44,11 @@ def test_plan_writes_everything(tmp_path, run_cli):
     assert [r["label"] for r in rows] == ["null", "+x", "-x", "+y", "-y", "+z", "-z"]
     parser = _Collector()
     parser.feed((out / "report.html").read_text())
-    assert len(parser.images) == 4 and all(src.startswith("data:image/png;base64,") for src in parser.images)
+    assert len(parser.images) == 4 + 3 and all(src.startswith("data:image/png;base64,") for src in parser.images)
     assert all(link.startswith(("data:", "#")) for link in parser.links)
     html = (out / "report.html").read_text().lower()
     assert "implant" in html and "electrical code" in html
+    assert "id=\"build\"" in html and "valid until" in html  # the build sheet and the date to renew setpoints
 
 
 def test_report_regenerates(tmp_path, run_cli):
