@@ -131,10 +131,10 @@ def bom_csv(sheet) -> str:
 
 
 def _cell(value):
-    """A CSV cell that a spreadsheet will not run as a formula."""
-    if isinstance(value, str) and value[:1] in ("=", "+", "-", "@", "\t", "\r"):
-        return "'" + value
-    return value
+    """A CSV cell: text made one line and never a spreadsheet formula (cage.escape); numbers as they are."""
+    from cage.escape import csv_text_cell
+
+    return csv_text_cell(value) if isinstance(value, str) else value
 
 
 def sheet_for_design(design_obj):
@@ -209,5 +209,7 @@ def register(app: typer.Typer) -> None:
 
 
 def _shown_name(path: Path) -> str:
-    """A file name fit for one terminal line."""
-    return "".join(ch if ch.isprintable() else "?" for ch in str(path))
+    """A file name fit for one terminal line (cage.escape)."""
+    from cage.escape import for_terminal
+
+    return for_terminal(path)
