@@ -401,7 +401,8 @@ def compare(
         from cage.atomicfile import write_bytes
         from cage.plots import compare_figure, png_bytes
 
-        fig = compare_figure([r.as_dict() for r in rows], room_limit, inp.uniformity)
+        fig = compare_figure([r.as_dict() for r in rows], room_limit, inp.uniformity,
+                             required_cube_m=float(max(inp.test_volume_m)))
         write_bytes(plot, png_bytes(fig))
     if as_json:
         typer.echo(_dump_json({"format": "cage-compare", "version": 1, "site": site.name,
@@ -705,7 +706,9 @@ def make_figures(design_obj, design_doc: dict, setpoints_doc: Optional[dict]) ->
     figs = {
         "uniformity.png": plots.uniformity_maps_figure(design_obj.cage, volume, tol),
         "axis_lines.png": plots.axis_lines_figure(design_obj.cage, volume, tol),
-        "cage_in_room.png": plots.cage_in_room_figure(design_obj.cage, frame, room, volume),
+        "cage_in_room.png": plots.cage_in_room_figure(design_obj.cage, frame, room, volume,
+                                                      _number_or((design_doc.get("site") or {}).get("heading_true_deg"),
+                                                                 None)),
     }
     if setpoints_doc is not None:
         figs["setpoints.png"] = plots.setpoints_figure(setpoints_doc)
