@@ -744,6 +744,7 @@ def _read_json(path: Path, what: str) -> Optional[dict]:
 def report(
     folder: Path = typer.Argument(..., help="A plan folder with design.json (and field.json, setpoints.json).",
                                   show_default=False),
+    pdf: bool = typer.Option(False, "--pdf", help="Also print report.pdf (needs a headless Chromium)."),
 ):
     """Write the stand-alone report.html (figures embedded) for a plan folder."""
 
@@ -761,6 +762,10 @@ def report(
     pngs = make_figures(design_obj, design_doc, setpoints_doc)
     path = write_report(folder, field_doc, design_doc, setpoints_doc, pngs)
     _say(f"Wrote {path}, build.csv, connection_x/y/z.png and {', '.join(pngs)}")
+    if pdf:
+        from cage.pdfexport import html_to_pdf
+
+        _say(f"Wrote {html_to_pdf(path, folder / 'report.pdf')}")
 
 
 # ----------------------------------------------------------------------------- plan

@@ -154,3 +154,18 @@ def test_report_in_headless_chromium(plan_dir, tmp_path):
     assert page["build"] and page["buildImages"] == 3
     assert "Build sheet" in page["text"] and "Valid until" in page["text"]
     assert page["title"].startswith("Coil cage report")
+
+
+def test_optional_pdf(plan_dir, run_cli, monkeypatch):
+    """--pdf prints a PDF where a converter is installed; without one, one plain line and exit 2."""
+    from conftest import assert_one_line_error
+
+    if _browser() is not None:
+        run = run_cli("report", plan_dir, "--pdf")
+        assert run.code == 0, run
+        data = (plan_dir / "report.pdf").read_bytes()
+        assert data[:5] == b"%PDF-" and len(data) > 50_000  # PDF header (ISO 32000); figures embedded
+    monkeypatch.setenv("PATH", "/nonexistent")
+    run = run_cli("report", plan_dir, "--pdf")
+    assert_one_line_error(run, "no PDF converter found")
+    assert (plan_dir / "report.html").is_file()  # the HTML is still written
