@@ -563,6 +563,9 @@ def build_report(*, field: Mapping | None = None, design: Mapping | None = None,
     model = (field or {}).get("model")
     if model:
         subtitle_bits.append(f"field model: {model}")
+    from cage import __version__
+
+    subtitle_bits.append(f"made by cage {__version__}")
     subtitle = f'<p class="sub">{_esc("; ".join(subtitle_bits))}</p>' if subtitle_bits else ""
     from cage.reportsections import validity_paragraph
 
