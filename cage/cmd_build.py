@@ -178,24 +178,35 @@ def register(app: typer.Typer) -> None:
         from cage.errors import InputError
 
         design_obj = _load_checked_design(design_file)
+        name = _shown_name(design_file)
+        masses = tuple(spool_kg) if spool_kg else STANDARD_SPOOL_MASSES_KG
+        if not all(0.0 < m <= 1000.0 for m in masses):  # NaN fails too
+            raise InputError(f"--spool-kg must be a spool mass above 0 and at most 1000 kg, got "
+                             f"{', '.join(f'{m:g}' for m in masses)}")
         if not (0.0 <= spare <= 100.0):
             raise InputError(f"--spare-percent must be between 0 and 100, got {spare:g}")
-        sheet = build_sheet(design_obj, _design_supplies(design_obj),
-                            spool_masses_kg=tuple(spool_kg) if spool_kg else STANDARD_SPOOL_MASSES_KG,
-                            spare_fraction=spare / 100.0, frame_wall_m=frame_wall_mm / 1000.0)
-        name = _shown_name(design_file)
-        if out is not None:
-            write_text(out, bom_csv(sheet))
-        written = []
+        if not (0.0 < frame_wall_mm < 100.0):
+            raise InputError(f"--frame-wall-mm must be above 0 and below 100 mm, got {frame_wall_mm:g}")
+        try:
+            sheet = build_sheet(design_obj, _design_supplies(design_obj), spool_masses_kg=masses,
+                                spare_fraction=spare / 100.0, frame_wall_m=frame_wall_mm / 1000.0)
+        except InputError as exc:
+            raise InputError(f"{name}: {exc}") from None
+        pngs = {}
         if figures is not None:
             from cage.connectionfigure import connection_pngs
 
+            pngs = connection_pngs(sheet)
             try:
                 figures.mkdir(parents=True, exist_ok=True)
             except OSError as exc:
-                raise InputError(f"{figures}: cannot make the folder ({exc.strerror})") from None
-            for file_name, data in connection_pngs(sheet).items():
-                written.append(str(write_bytes(figures / file_name, data)))
+                raise InputError(f"{_shown_name(figures)}: cannot make the folder ({exc.strerror})") from None
+        if out is not None:
+            write_text(out, bom_csv(sheet))
+        written = []
+        if pngs:
+            for file_name, data in pngs.items():
+                written.append(_shown_name(write_bytes(figures / file_name, data)))
         if as_json:
             typer.echo(_dump_json(sheet_to_dict(sheet, name)), nl=False)
         else:

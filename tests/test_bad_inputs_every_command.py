@@ -428,6 +428,20 @@ CASES = [
     Case("sequence: design without inductance",
          lambda c: ["sequence", c.design(lambda o: _ax(o, "y").pop("inductance_H")), G_SITE(c), "--series",
                     c.good.series], ("axes.y.inductance_H",)),
+    # ---------------------------------------------------------------- build
+    Case("build: design without a wire", lambda c: ["build", c.design(lambda o: _ax(o, "z").pop("wire"))],
+         ("bad.json", "axes.z.wire", "missing")),
+    Case("build: design without a frame channel", lambda c: ["build", c.design(lambda o: _ax(o).pop("frame_depth_m"))],
+         ("bad.json", "axes.x.frame_depth_m", "missing")),
+    Case("build: negative spool mass", lambda c: ["build", G_DESIGN(c), "--spool-kg", "-2"], ("--spool-kg", "-2")),
+    Case("build: spare beyond 100 %", lambda c: ["build", G_DESIGN(c), "--spare-percent", "500"],
+         ("--spare-percent", "500")),
+    Case("build: frame wall of zero", lambda c: ["build", G_DESIGN(c), "--frame-wall-mm", "0"], ("--frame-wall-mm",)),
+    Case("build: bill of materials under a file",
+         lambda c: ["build", G_DESIGN(c), "--out", c.out(c.good.plain_file / "bom.csv")], ("file.txt/bom.csv",)),
+    Case("build: figures folder under a file",
+         lambda c: ["build", G_DESIGN(c), "--out", c.out(c.tmp / "bom.csv"), "--figures", c.good.plain_file / "figs"],
+         ("file.txt/figs", "folder")),
 ]
 
 
