@@ -36,10 +36,11 @@ Connection
 Protection
     Fuse: the next value of the R10 series (IEC 60127 ratings) at or above 1.25 x the design
     current (common practice). Stored energy at full range E = 1/2 L I^2. Suppressor: a
-    unipolar supply gets a freewheel diode across the coils (forward current rating at least
-    the design current, reverse rating at least twice the supply's voltage: common practice);
-    a bipolar supply cannot have a diode across its output, so it gets a bidirectional
-    transient suppressor (stand-off above the supply voltage, energy rating at least E) or an
+    unipolar supply gets a freewheel diode across its output terminals, on the supply side of
+    the polarity switch so that it clamps the coils in either throw and never sees a reversed
+    voltage (forward current rating at least the design current, reverse rating at least twice
+    the supply's voltage: common practice); a bipolar supply cannot have a diode across its
+    output, so it gets a bidirectional transient suppressor (stand-off above the supply voltage, energy rating at least E) or an
     RC snubber with C = L I^2 / V_peak^2 (the capacitor takes E at V_peak) and R = V_peak / I
     (the current's first path), V_peak = 2 x the supply voltage (our choice). Voltage class:
     extra-low voltage (ELV) up to 120 V ripple-free DC (IEC 61140, band I of IEC 60449); a
@@ -394,17 +395,18 @@ def protection(axis: str, current_A: float, inductance_H: float, circuit_resista
     switch: tuple[str, ...] = ()
     if bipolar is False:
         diode_i, diode_v = i, DIODE_VOLTAGE_FACTOR * v
-        suppressor = (f"freewheel diode across the coils (cathode to the + side), at least {diode_i:.2f} A "
-                      f"forward and {diode_v:.0f} V reverse; it carries the current for about "
-                      f"{SETTLE_TIME_CONSTANTS:g} L/R after the supply stops")
-        settle = f" (about {SETTLE_TIME_CONSTANTS * decay * 1e3:.0f} ms after the current reaches zero)" \
-            if decay else ""
+        suppressor = (f"freewheel diode across the supply's output terminals (cathode to +, on the supply side of "
+                      f"the polarity switch), at least {diode_i:.2f} A forward and {diode_v:.0f} V reverse; it "
+                      f"carries the coil current for about {SETTLE_TIME_CONSTANTS:g} L/R after the supply stops")
+        settle = f" about {SETTLE_TIME_CONSTANTS * decay * 1e3:.0f} ms ({SETTLE_TIME_CONSTANTS:g} L/R) for the " \
+                 f"current to die away" if decay else " until the supply shows 0 A"
         switch = (
             "double-pole double-throw switch between supply and coils, rated for the fuse current",
             "supply + to the first common pole, supply - to the second common pole",
             f"forward throw: first pole to the start of {first}, second pole to the finish of {last}",
             f"reverse throw (crossed): first pole to the finish of {last}, second pole to the start of {first}",
-            "the freewheel diode sits on the coil side of the switch, so it stays across the coils in both throws",
+            "the freewheel diode stays on the supply side, so the coils discharge through it in either throw "
+            "and it never sees a reversed voltage",
             f"switch only at zero current: set the supply to 0 A and wait{settle}; never switch under load",
         )
     else:

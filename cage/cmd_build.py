@@ -77,7 +77,7 @@ def sheet_text(sheet, design_name: str) -> str:
         f = b.frame
         lines.append(f"  a closed aluminium frame ({f.frame_wall_m * 1e3:g} mm U-channel) would be one shorted turn: "
                      f"R {f.resistance_ohm * 1e3:.2f} mohm, L {f.inductance_H * 1e6:.2f} uH, tau = L/R "
-                     f"{f.time_constant_s * 1e3:.1f} ms")
+                     f"{f.time_constant_s * 1e3:.1f} ms (Grover's one-turn inductance, aluminium at 61 % IACS)")
         lines.append("")
     lines.append(f"Copper, all axes with leads: {sheet.copper_mass_kg:.1f} kg")
     return "\n".join(lines)
