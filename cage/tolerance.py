@@ -38,6 +38,7 @@ from cage.errors import InputError
 
 __all__ = [
     "Coil",
+    "axis_coil",
     "CoilSystem",
     "BuildErrors",
     "SOURCES",
