@@ -14,12 +14,10 @@ from cage.errors import InputError
 AXES = ("x", "y", "z")
 
 
-def _terminal(text: str) -> str:
-    """User text made safe for the terminal (control characters shown, not obeyed)."""
-    try:
-        from cage.escape import for_terminal
-    except ImportError:  # before the escaping module lands
-        return "".join(c if c.isprintable() else repr(c)[1:-1] for c in str(text))
+def _terminal(text) -> str:
+    """User text (file names) made safe for the terminal."""
+    from cage.escape import for_terminal
+
     return for_terminal(str(text))
 
 
