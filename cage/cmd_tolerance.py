@@ -53,7 +53,8 @@ def _budget_table(budget) -> list[str]:
 
 def run_tolerance(design_file: Path, site_file: Path, samples: int, seed: Optional[int], errors,
                   target_yield: float, spec_samples: int, calibration_file: Optional[Path],
-                  temperature_swing_K: float, hours: float, valid_until: Optional[str], show_progress: bool):
+                  temperature_swing_K: float, hours: float, valid_until: Optional[str], show_progress: bool,
+                  plot: Optional[Path] = None):
     """Everything the command computes, as a JSON-ready dict (no printing but the progress bar)."""
     import numpy as np
 
@@ -64,11 +65,49 @@ def run_tolerance(design_file: Path, site_file: Path, samples: int, seed: Option
     from cage.sitefile import load_site, parse_date
     from cage.supplies import supply_for_axis, validate_supply
 
+    # Every input is read and checked before the (long) sampling starts.
     design = load_design(design_file)
     site = load_site(site_file)
     systems = tol.systems_of_design(design)
     volume = site.requirement.test_volume_m
     uniformity = site.requirement.uniformity
+    until = parse_date(valid_until, "--valid-until") if valid_until else site.date + _dt.timedelta(days=365)
+    years = (until - site.date).days / 365.25
+    if years < 0:
+        raise InputError(f"--valid-until ({until}) is before the site's date ({site.date})")
+    if not site.supplies:
+        raise InputError(f"{_terminal(site.source)}: no [[supply]] tables; the error budget needs the supplies")
+    for i, s in enumerate(site.supplies):
+        validate_supply(s, f"{site.source}: supply[{i}] (axis {s.axis})")
+    try:
+        supplies = [supply_for_axis(site.supplies, a) for a in AXES]
+    except InputError as exc:
+        raise InputError(f"{site.source}: {exc}") from None
+    grad_resid = grad_info = None
+    if site.measured is not None and site.measured.points_m:
+        from cage.gradient import fit_gradient, residual_after_null_nT
+
+        try:
+            g = fit_gradient(site.measured.points_m, site.measured.fields_nT)
+        except InputError as exc:
+            raise InputError(f"{site.source}: [measured] {exc}") from None
+        per, worst, rms = residual_after_null_nT(g.gradient_nT_per_m, volume)
+        grad_resid = per
+        grad_info = {"gradient_nT_per_m": g.gradient_nT_per_m.tolist(), "centre_nT": g.centre_nT.tolist(),
+                     "fit_rms_misfit_nT": g.rms_misfit_nT, "points": g.n_points,
+                     "residual_max_nT": worst, "residual_rms_nT": rms,
+                     "residual_max_per_axis_nT": per.tolist()}
+    cal_se = cal_off = None
+    if calibration_file is not None:
+        from cage.calibrationfile import load_calibration
+
+        fit = load_calibration(calibration_file)
+        cal_se, cal_off = fit.coupling_stderr_nT_per_A, fit.offset_stderr_nT
+    amb = site_ambient(site)
+    if plot is not None:
+        folder = plot.parent if str(plot.parent) else Path(".")
+        if not folder.is_dir():
+            raise InputError(f"{plot}: output folder {folder} does not exist")
     if seed is None:
         import secrets
 
@@ -102,48 +141,14 @@ def run_tolerance(design_file: Path, site_file: Path, samples: int, seed: Option
             bar.__exit__(None, None, None)
 
     # --- error budget at the operating point: the cage nulls the field in force at its centre.
-    amb = site_ambient(site)
-    if site.supplies:
-        for i, s in enumerate(site.supplies):
-            validate_supply(s, f"{site.source}: supply[{i}] (axis {s.axis})")
-        try:
-            supplies = [supply_for_axis(site.supplies, a) for a in AXES]
-        except InputError as exc:
-            raise InputError(f"{site.source}: {exc}") from None
-    else:
-        raise InputError(f"{site.source}: no [[supply]] tables; the error budget needs the supplies")
     stab = [SupplyStability(s.max_current_A, s.resolution_A, s.drive, s.temperature_coefficient_ppm_per_K,
                             s.drift_ppm_per_hour, s.noise_ppm) for s in supplies]
     k_nT = np.array([np.linalg.norm(sp.nominal_centre_T_per_A) * 1e9 for sp in mc.axes])
     axis_field = -np.asarray(amb.in_force_cage_nT, dtype=float)
-    until = parse_date(valid_until, "--valid-until") if valid_until else site.date + _dt.timedelta(days=365)
-    years = (until - site.date).days / 365.25
-    if years < 0:
-        raise InputError(f"--valid-until ({until}) is before the site's date ({site.date})")
     # Monte Carlo coupling errors: [sample, component, axis] in nT/A.
     nominal = np.stack([sp.nominal_centre_T_per_A for sp in mc.axes], axis=1) * 1e9
     built = np.stack([sp.centre_T_per_A for sp in mc.axes], axis=2) * 1e9
     delta_k = built - nominal[None]
-    grad_resid = grad_info = None
-    if site.measured is not None and site.measured.points_m:
-        from cage.gradient import fit_gradient, residual_after_null_nT
-
-        try:
-            g = fit_gradient(site.measured.points_m, site.measured.fields_nT)
-        except InputError as exc:
-            raise InputError(f"{site.source}: [measured] {exc}") from None
-        per, worst, rms = residual_after_null_nT(g.gradient_nT_per_m, volume)
-        grad_resid = per
-        grad_info = {"gradient_nT_per_m": g.gradient_nT_per_m.tolist(), "centre_nT": g.centre_nT.tolist(),
-                     "fit_rms_misfit_nT": g.rms_misfit_nT, "points": g.n_points,
-                     "residual_max_nT": worst, "residual_rms_nT": rms,
-                     "residual_max_per_axis_nT": per.tolist()}
-    cal_se = cal_off = None
-    if calibration_file is not None:
-        from cage.calibrationfile import load_calibration
-
-        fit = load_calibration(calibration_file)
-        cal_se, cal_off = fit.coupling_stderr_nT_per_A, fit.offset_stderr_nT
     budget = error_budget(axis_field, k_nT, stab, temperature_swing_K, hours, years,
                           amb.sv_cage_nT_per_year, delta_k, cal_se, cal_off, grad_resid)
 
@@ -276,7 +281,7 @@ def register(app: typer.Typer) -> None:
                              math.radians(orthogonality_deg), float(imbalance))
         doc, mc = run_tolerance(design_file, site_file, samples, seed, errors, target_yield, spec_samples,
                                 calibration, temperature_swing_K, hours, valid_until,
-                                show_progress=sys.stderr.isatty())
+                                show_progress=sys.stderr.isatty(), plot=plot)
         if plot is not None:
             from cage.atomicfile import write_bytes
             from cage.plots import png_bytes
