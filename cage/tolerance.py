@@ -53,6 +53,7 @@ __all__ = [
     "sensitivities",
     "ToleranceLimit",
     "tolerance_spec",
+    "joint_factor",
     "largest_uniform_sphere_radius_m",
 ]
 
@@ -565,6 +566,38 @@ def tolerance_spec(systems, test_volume_m, uniformity: float, errors: BuildError
     if progress is not None:
         progress(len(SOURCES), len(SOURCES))
     return out
+
+
+def joint_factor(systems, test_volume_m, uniformity: float, errors: BuildErrors = BuildErrors(),
+                 target_yield: float = 0.95, n_samples: int = 400, seed: int | None = 0,
+                 n_per_edge: int = 7, max_factor: float = 50.0, rel_precision: float = 0.05) -> float:
+    """The largest common factor f such that every size of ``errors`` times f keeps ``target_yield``.
+
+    0.0 when even a hundredth of every size misses it (the design has no margin left);
+    ``max_factor`` when it holds up to there. Bisection on log f, common random numbers.
+    """
+    _check_run(systems, test_volume_m, uniformity, n_samples)
+    draws = _draws(int(n_samples), max(len(s.coils) for s in systems), seed)
+    base = errors.as_vector()
+
+    def ok(f):
+        mc = monte_carlo(systems, test_volume_m, uniformity, BuildErrors.from_vector(base * f), n_samples,
+                         seed, n_per_edge, _draws_cache=draws)
+        return mc.yield_share >= target_yield
+
+    hi = float(max_factor)
+    if ok(hi):
+        return hi
+    lo = 0.01
+    if not ok(lo):
+        return 0.0
+    while hi / lo > 1.0 + rel_precision:
+        mid = math.sqrt(lo * hi)
+        if ok(mid):
+            lo = mid
+        else:
+            hi = mid
+    return lo
 
 
 # ---------------------------------------------------------------------------------------------

@@ -80,3 +80,29 @@ def test_bad_options_are_one_line_errors(run_cli, design_path, flag, value, frag
     run = run_cli("tolerance", design_path, SITES / "smallsat-lab.toml", "--samples", "20", "--spec-samples",
                   "20", "--seed", "1", flag, value)
     assert_one_line_error(run, fragment)
+
+
+def test_calibration_shrinks_the_coupling_terms(run_cli, design_path, tmp_path):
+    # A calibration of the built cage from 22 readings with 2 nT of reading noise: the fit's
+    # standard errors replace the Monte Carlo's coupling and non-orthogonality terms.
+    from cage.calibrate import fit_calibration, suggest_currents_A
+    from cage.calibrationfile import save_calibration
+
+    rng = np.random.default_rng(4)
+    k = np.diag([12000.0, 11000.0, 13000.0]) + rng.normal(0, 20.0, (3, 3))
+    b0 = np.array([18000.0, -900.0, 44000.0])
+    currents = suggest_currents_A([4.0, 4.0, 4.0])
+    fields = b0 + currents @ k.T + rng.normal(0, 2.0, (len(currents), 3))
+    cal = tmp_path / "cal.json"
+    save_calibration(cal, fit_calibration(currents, fields))
+    run = run_cli("tolerance", design_path, SITES / "smallsat-lab.toml", "--samples", "60", "--spec-samples", "30",
+                  "--seed", "3", "--json", "--calibration", cal)
+    assert run.code == 0, run
+    eb = json.loads(run.out)["error_budget"]
+    before = {t["term"]: t["nT"] for t in eb["as_built"]["terms"]}
+    after = {t["term"]: t["nT"] for t in eb["calibrated"]["terms"]}
+    for name in ("coupling constant", "non-orthogonality"):
+        assert sum(after[name]) < 0.5 * sum(before[name]), name
+        assert all(v > 0 for v in after[name])
+    assert after["supply step"] == before["supply step"]
+    assert eb["calibrated"]["rss_total_nT"] < eb["as_built"]["rss_total_nT"]
