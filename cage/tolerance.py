@@ -29,7 +29,7 @@ smooth, repeatable curve and the tolerance specification is deterministic.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -508,6 +508,19 @@ class ToleranceLimit:
     yield_at_limit: float
 
 
+def _log_bisect(yield_at, target: float, lo: float, y_lo: float, hi: float, rel_precision: float):
+    """Largest x in [lo, hi] (to rel_precision, on a log scale) with yield_at(x) >= target, given
+    yield_at(lo) = y_lo >= target > yield_at(hi). Returns (x, its yield)."""
+    while hi / lo > 1.0 + rel_precision:
+        mid = math.sqrt(lo * hi)
+        y_mid = yield_at(mid)
+        if y_mid >= target:
+            lo, y_lo = mid, y_mid
+        else:
+            hi = mid
+    return lo, y_lo
+
+
 def tolerance_spec(systems, test_volume_m, uniformity: float, errors: BuildErrors = BuildErrors(),
                    target_yield: float = 0.95, n_samples: int = 400, seed: int | None = 0,
                    n_per_edge: int = 7, max_factor: float = 50.0, rel_precision: float = 0.05,
@@ -555,13 +568,7 @@ def tolerance_spec(systems, test_volume_m, uniformity: float, errors: BuildError
         if y_lo < t:
             out.append(ToleranceLimit(src, unit, 0.0, False, hi / si, y0))
             continue
-        while hi / lo > 1.0 + rel_precision:
-            mid = math.sqrt(lo * hi)
-            y_mid = yield_at(i, mid)
-            if y_mid >= t:
-                lo, y_lo = mid, y_mid
-            else:
-                hi = mid
+        lo, y_lo = _log_bisect(lambda v: yield_at(i, v), t, lo, y_lo, hi, rel_precision)
         out.append(ToleranceLimit(src, unit, lo / si, False, ref * max_factor / si, y_lo))
     if progress is not None:
         progress(len(SOURCES), len(SOURCES))
@@ -580,24 +587,18 @@ def joint_factor(systems, test_volume_m, uniformity: float, errors: BuildErrors 
     draws = _draws(int(n_samples), max(len(s.coils) for s in systems), seed)
     base = errors.as_vector()
 
-    def ok(f):
-        mc = monte_carlo(systems, test_volume_m, uniformity, BuildErrors.from_vector(base * f), n_samples,
-                         seed, n_per_edge, _draws_cache=draws)
-        return mc.yield_share >= target_yield
+    def yield_at(f):
+        return monte_carlo(systems, test_volume_m, uniformity, BuildErrors.from_vector(base * f), n_samples,
+                           seed, n_per_edge, _draws_cache=draws).yield_share
 
     hi = float(max_factor)
-    if ok(hi):
+    if yield_at(hi) >= target_yield:
         return hi
     lo = 0.01
-    if not ok(lo):
+    y_lo = yield_at(lo)
+    if y_lo < target_yield:
         return 0.0
-    while hi / lo > 1.0 + rel_precision:
-        mid = math.sqrt(lo * hi)
-        if ok(mid):
-            lo = mid
-        else:
-            hi = mid
-    return lo
+    return _log_bisect(yield_at, target_yield, lo, y_lo, hi, rel_precision)[0]
 
 
 # ---------------------------------------------------------------------------------------------
@@ -620,18 +621,6 @@ def largest_uniform_sphere_radius_m(system: CoilSystem, tolerance: float, upper_
         pts = unit * np.array([[1.0]] + [[r]] * (len(unit) - 1))
         return float(deviation_and_centre(system_fields_T(system, err, np.zeros((1, 2)), pts))[0][0])
 
-    lo, hi = 0.0, float(upper_m)
-    if dev(hi) <= tolerance:
-        return hi
-    while hi - lo > rel_precision * upper_m:
-        mid = 0.5 * (lo + hi)
-        if dev(mid) <= tolerance:
-            lo = mid
-        else:
-            hi = mid
-    return lo
+    from cage.uniformity import _bisect
 
-
-def with_errors(errors: BuildErrors, **changes) -> BuildErrors:
-    """``errors`` with some sizes replaced (SI field names)."""
-    return replace(errors, **changes)
+    return _bisect(dev, float(upper_m), float(tolerance), rel_precision)
