@@ -258,7 +258,9 @@ def deviation_and_centre(fields_T: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     """(G,) max |B_k - B_0| / |B_0| and (G, 3) B_0, for fields (G, m, 3) whose row 0 is the centre."""
     b0 = fields_T[:, 0, :]
     d = fields_T[:, 1:, :] - b0[:, None, :]
-    dev = np.sqrt(np.max(np.einsum("gpk,gpk->gp", d, d), axis=1)) / np.linalg.norm(b0, axis=1)
+    size = np.linalg.norm(b0, axis=1)
+    worst = np.sqrt(np.max(np.einsum("gpk,gpk->gp", d, d), axis=1))
+    dev = np.divide(worst, size, out=np.full_like(worst, np.inf), where=size > 0)  # no field: fails
     return dev, b0
 
 
@@ -550,15 +552,19 @@ def tolerance_spec(systems, test_volume_m, uniformity: float, errors: BuildError
         unit, si = SOURCE_UNITS[src]
         ref = base[i] if base[i] > 0 else defaults[i]
         hi = ref * max_factor
+        if src in ("size", "turns"):  # keep sampled coils real: 4 sigma below the smallest coil
+            smallest = min(getattr(c, "size_m" if src == "size" else "turns") for s in systems for c in s.coils)
+            hi = max(ref, min(hi, smallest / 4.0))
+        cap = hi
         if progress is not None:
             progress(i, len(SOURCES))
         y_hi = yield_at(i, hi)
         if y_hi >= t:
-            out.append(ToleranceLimit(src, unit, hi / si, True, hi / si, y_hi))
+            out.append(ToleranceLimit(src, unit, cap / si, True, cap / si, y_hi))
             continue
         y0 = yield_at(i, 0.0)
         if y0 < t:
-            out.append(ToleranceLimit(src, unit, None, False, hi / si, y0))
+            out.append(ToleranceLimit(src, unit, None, False, cap / si, y0))
             continue
         lo = ref / 64.0
         y_lo = yield_at(i, lo)
@@ -566,10 +572,10 @@ def tolerance_spec(systems, test_volume_m, uniformity: float, errors: BuildError
             lo /= 8.0
             y_lo = yield_at(i, lo)
         if y_lo < t:
-            out.append(ToleranceLimit(src, unit, 0.0, False, hi / si, y0))
+            out.append(ToleranceLimit(src, unit, 0.0, False, cap / si, y0))
             continue
         lo, y_lo = _log_bisect(lambda v: yield_at(i, v), t, lo, y_lo, hi, rel_precision)
-        out.append(ToleranceLimit(src, unit, lo / si, False, ref * max_factor / si, y_lo))
+        out.append(ToleranceLimit(src, unit, lo / si, False, cap / si, y_lo))
     if progress is not None:
         progress(len(SOURCES), len(SOURCES))
     return out
