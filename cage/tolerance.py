@@ -108,8 +108,21 @@ def pair_system(pair: CoilPair) -> CoilSystem:
 
 
 def systems_of_design(design) -> tuple[CoilSystem, CoilSystem, CoilSystem]:
-    """The three axis systems of a ``cage.designfile.Design`` (x, y, z)."""
-    return tuple(pair_system(design.axis(name).pair) for name in AXES)
+    """The three axis systems of a ``cage.designfile.Design`` (x, y, z).
+
+    An axis that lists its coils (``coil_axis`` with ``shape`` and ``coils`` of ``position_m``,
+    ``turns``, ``size_m``: three- and four-coil systems) gives every coil; otherwise its pair.
+    """
+    out = []
+    for name in AXES:
+        ad = design.axis(name)
+        listed = getattr(ad, "coil_axis", None)
+        if listed is not None:
+            out.append(CoilSystem(name, tuple(axis_coil(name, listed.shape, c.size_m, c.position_m, c.turns)
+                                              for c in listed.coils)))
+        else:
+            out.append(pair_system(ad.pair))
+    return tuple(out)
 
 
 # ---------------------------------------------------------------------------------------------
