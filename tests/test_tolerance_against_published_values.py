@@ -35,7 +35,6 @@ def test_spacing_error_against_the_on_axis_taylor_expansion():
     r = 0.02 * R
     expected = abs(coef) * r * r / 2
     system = CoilSystem("x", (axis_coil("x", "round", R, +a, 1), axis_coil("x", "round", R, -a, 1)))
-    from cage.tolerance import _test_points  # noqa: F401
     from cage.tolerance import deviation_and_centre, system_fields_T
     from cage.uniformity import sphere_points_m
 
@@ -45,7 +44,6 @@ def test_spacing_error_against_the_on_axis_taylor_expansion():
     # and the per-mm spacing sensitivity reported by `sensitivities` agrees in size: moving one
     # coil by h changes the spacing by h, so d(dev)/dh ~ (d coef / d d) r^2 / 2 at the Helmholtz spacing.
     nominal = pair_system(CoilPair("x", "round", R, R, 1))
-    h = 1e-3
     sens = [s for s in sensitivities([nominal], (2 * r,) * 3) if s.source == "position"][0]
     dcoef_dd = 3 * 4 * (2 * (R / 2)) / 2 / (1.25 * R * R) ** 2  # d/dd of 3 (d^2 - R^2)/(R^2 + d^2/4)^2 at d = R
     # over a cube of side 2r the largest on-axis distance is r (face centre) and the corners reach
