@@ -4,8 +4,9 @@ Pure core: takes a ``cage.designfile.Design`` (and, when known, the supply chann
 axis) and returns frozen dataclasses. No terminal, no disk.
 
 Per coil
-    Coil planes: an axis's coils, listed from its -axis end to its +axis end (today two, the
-    pair's planes at -spacing/2 and +spacing/2; ``axis_coils`` is the one place that knows).
+    Coil planes: an axis's coils, listed from its -axis end to its +axis end (a pair's two
+    planes at -spacing/2 and +spacing/2, or the coils an axis lists; ``axis_coils`` is the one
+    place that knows).
     Frame: the channel's cross-section is frame_width_m (along the axis) by frame_depth_m
     (radial), centred on the winding centreline (as ``cage.layout``), so the frame's inner
     size is the centreline size less the depth and its outer size the centreline size plus the
@@ -257,13 +258,21 @@ def cyclic_axes(axis: str) -> tuple[str, str]:
     return AXES[(i + 1) % 3], AXES[(i + 2) % 3]
 
 
-def axis_coils(pair: CoilPair) -> tuple[tuple[float, int], ...]:
-    """(position_m along the axis, turns) of each coil of an axis, from its -axis end.
+def axis_coils(axis_design) -> tuple[tuple[float, int, float], ...]:
+    """(position_m along the axis, turns, size_m) of each coil of an axis, from its -axis end.
 
-    A pair has two equal coils at -spacing/2 and +spacing/2.
+    axis_design: a ``cage.designfile.AxisDesign`` (or a bare ``CoilPair``). An axis that lists
+    its coils (``coil_axis`` with ``coils`` of ``position_m``, ``turns``, ``size_m``: three- and
+    four-coil systems) gives every coil; otherwise its pair gives two equal coils at
+    -spacing/2 and +spacing/2. size_m: side (square) or radius (round).
     """
+    listed = getattr(axis_design, "coil_axis", None)
+    if listed is not None and getattr(listed, "coils", None):
+        coils = [(float(c.position_m), int(c.turns), float(c.size_m)) for c in listed.coils]
+        return tuple(sorted(coils))
+    pair = axis_design if isinstance(axis_design, CoilPair) else axis_design.pair
     half = pair.spacing_m / 2.0
-    return ((-half, int(pair.turns)), (+half, int(pair.turns)))
+    return ((-half, int(pair.turns), float(pair.size_m)), (+half, int(pair.turns), float(pair.size_m)))
 
 
 def turn_perimeter_m(shape: str, size_m: float, radial_m: float) -> float:
@@ -498,20 +507,20 @@ def axis_build(a, supply=None, *, spool_masses_kg=STANDARD_SPOOL_MASSES_KG,
         raise InputError(f"{where}.max_current_A is missing and no supply is known; the build sheet needs a current")
     wire = wire_from_name(a.wire)
     width, depth = a.frame_width_m, a.frame_depth_m
-    coils_in = axis_coils(pair)
-    positions = [p for p, _ in coils_in]
+    coils_in = axis_coils(a)
+    positions = [p for p, _, _ in coils_in]
     labels = [f"{pair.axis}{k + 1}" for k in range(len(coils_in))]
     links = [abs(positions[k + 1] - positions[k]) + depth for k in range(len(coils_in) - 1)]
     coils = []
-    for k, (pos, turns) in enumerate(coils_in):
+    for k, (pos, turns, size_m) in enumerate(coils_in):
         try:
             pack = winding_pack(wire, turns, width, depth)
         except InputError as exc:
             raise InputError(f"{where}: {exc}") from None
-        winding = winding_length_m(pair.shape, pair.size_m, turns, pack.turns_per_layer, wire.outer_diameter_m)
+        winding = winding_length_m(pair.shape, size_m, turns, pack.turns_per_layer, wire.outer_diameter_m)
         link = links[k] if k < len(links) else 0.0
         length = winding + link
-        centre = _as_measure(pair.shape, pair.size_m)
+        centre = _as_measure(pair.shape, size_m)
         coils.append(CoilBuild(
             axis=pair.axis, label=labels[k], shape=pair.shape, size_kind=_size_kind(pair.shape), position_m=pos,
             centreline_size_m=centre, frame_inner_size_m=centre - depth, frame_outer_size_m=centre + depth,

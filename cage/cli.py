@@ -1037,6 +1037,10 @@ from cage import cmd_build as _cmd_build  # noqa: E402
 
 _cmd_build.register(app)
 
+from cage import cmd_tolerance as _cmd_tolerance  # noqa: E402
+
+_cmd_tolerance.register(app)
+
 
 # ----------------------------------------------------------------------------- entry point
 

@@ -86,3 +86,41 @@ def test_wiring_runs_start_to_finish_from_supply_plus():
         assert steps[-1] == f"finish of {labels[-1]} to supply -"
         positions = [c.position_m for c in b.coils]
         assert positions == sorted(positions)
+
+
+def test_four_coil_axis_wiring_and_field():
+    """An axis that lists four coils (the interface of three- and four-coil systems): every coil
+    is wired start to finish in order, the links add up, and the drawn sense gives +axis field."""
+    from types import SimpleNamespace as NS
+
+    from cage.buildsheet import axis_build, cyclic_axes
+    from cage.coils import CoilPair
+    from cage.connectionfigure import connection_figure
+
+    side = 1.6
+    coils = [NS(position_m=p * side, turns=t, size_m=side) for p, t in
+             ((-0.5055, 26), (-0.1281, 11), (0.1281, 11), (0.5055, 26))]  # positions and turns: our test values
+    axis = NS(pair=CoilPair("y", "square", side, 0.5445 * side, 26), wire="AWG 16", frame_width_m=0.03,
+              frame_depth_m=0.03, max_current_A=2.0, lead_length_m=5.0, resistance_hot_ohm=None, inductance_H=0.01,
+              field_per_amp_nT=None, winding_temperature_C=None, coil_axis=NS(shape="square", coils=coils))
+    b = axis_build(axis)
+    assert [c.label for c in b.coils] == ["y1", "y2", "y3", "y4"]
+    assert [c.turns for c in b.coils] == [26, 11, 11, 26]
+    links = [c.link_length_m for c in b.coils]
+    gaps = np.diff([c.position_m for c in coils])
+    assert links[:3] == pytest.approx(gaps + 0.03) and links[3] == 0.0
+    assert b.total_wire_m == pytest.approx(sum(c.wire_length_m for c in b.coils) + 5.0)
+    assert len([s for s in b.connection.steps if s.startswith("finish of y")]) == 4
+    fig = connection_figure(b)
+    line = [ln for ax in fig.axes for ln in ax.get_lines() if ln.get_gid() == "winding-path"][0]
+    pu, pv = (np.asarray(v, dtype=float) for v in line.get_data())
+    u, v = cyclic_axes("y")
+    sources = []
+    for c in b.coils:
+        verts = np.zeros((pu.size, 3))
+        verts[:, 1] = c.position_m
+        verts[:, AXES.index(u)] = pu
+        verts[:, AXES.index(v)] = pv
+        sources.append(magpylib.current.Polyline(current=float(c.turns), vertices=verts))
+    field = np.asarray(magpylib.Collection(*sources).getB((0.0, 0.0, 0.0)), dtype=float)
+    assert field[1] > 0 and abs(field[1]) > 100 * np.linalg.norm(field[[0, 2]])
