@@ -609,8 +609,8 @@ def _info_panel(ax, cage, frame, room, env, inner, tv) -> None:
     left.append(f"Test volume  {tv[0]:.2f} × {tv[1]:.2f} × {tv[2]:.2f} m")
     right = []
     for pair in cage.pairs:
-        size = "side" if pair.shape == "square" else "radius"
-        right.append(f"{pair.axis} pair  {pair.shape}, {size} {pair.size_m:.3f} m, "
+        size, value = ("side", pair.size_m) if pair.shape == "square" else ("diameter", 2 * pair.size_m)
+        right.append(f"{pair.axis} pair  {pair.shape}, {size} {value:.3f} m, "
                      f"spacing {pair.spacing_m:.3f} m, {pair.turns} turns")
     right.append(f"Frames  {frame.width_m * 1000:.0f} × {frame.depth_m * 1000:.0f} mm "
                  f"(along the axis × radial), gap {frame.gap_m * 1000:.0f} mm")
