@@ -48,7 +48,7 @@ __all__ = [
 
 # The coil systems an axis may be (cage.coilsystems derives their geometry); "custom" is any
 # other list of coils (e.g. a design file written elsewhere).
-SYSTEM_NAMES = ("pair", "three", "four", "custom")
+SYSTEM_NAMES = ("pair", "three", "four", "four-equal", "custom")
 
 
 def _number(value) -> bool:
