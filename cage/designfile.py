@@ -49,7 +49,7 @@ import numpy as np
 
 from cage.atomicfile import write_text
 from cage.coilaxis import SYSTEM_NAMES, AxisCage, Coil, CoilAxis, axis_cage_field_T, axis_from_pair, pair_from_axis
-from cage.coils import AXES, SHAPES, CoilCage, CoilPair, as_points_m
+from cage.coils import AXES, SHAPES, CoilCage, CoilPair, as_points_m, cage_field_T
 from cage.errors import InputError
 
 __all__ = [
@@ -637,5 +637,8 @@ def field_T(design: Design, currents_A, points_m) -> np.ndarray:
         raise InputError(f"expected a Design, got {type(design).__name__}")
     currents = _currents(currents_A)
     pts, single = as_points_m(points_m)
-    out = axis_cage_field_T(design.axis_cage, currents, pts)
+    if design.all_pairs:
+        out = cage_field_T(design.cage, currents, pts)
+    else:
+        out = axis_cage_field_T(design.axis_cage, currents, pts)
     return out[0] if single else out
