@@ -77,7 +77,7 @@ class SystemGeometry:
 
     positions: coil-plane positions per unit size, ascending. sizes: each coil's side or
     radius per unit size. turns: the whole-turns pattern (per coil). weights: the exact
-    ampere-turns per coil of the ideal system (the smallest coil weight normalised to 1).
+    ampere-turns per coil of the ideal system (relative: only their ratios count).
     ideal_positions: the positions of the ideal (exact-ratio) system. zeroed: the even orders
     of the axial field zeroed with ``turns``. source: where the system is published.
     """
