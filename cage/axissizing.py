@@ -39,6 +39,8 @@ __all__ = [
     "perturbed_filaments",
     "deviation_with_error",
     "axis_sensitivity",
+    "sensitivity_summary_lines",
+    "axis_pack_difference",
 ]
 
 UNIFORMITY_GRID = 9
@@ -274,3 +276,53 @@ def axis_sensitivity(ax: CoilAxis, tolerance: float, *, box_m=None, sphere_radiu
         if t < best_tilt:
             best_tilt, tilt_coil = t, ax.coils[k].position_m
     return AxisSensitivity(best_shift, best_tilt, shift_coil, tilt_coil, nominal, tol)
+
+
+def sensitivity_summary_lines(axes, tolerance: float, *, box_m=None, sphere_radius_m=None) -> list[str]:
+    """One plain line per axis for the design summary: the largest single-coil position error and
+    tilt that keep ``tolerance`` over the test volume (``axis_sensitivity``), e.g.
+    ``x (four square coils): keep each coil plane within 1.5 mm of its place and tilted less
+    than 0.15 deg for 0.1 % over the test volume``.
+
+    axes: ``cage.coilaxis.CoilAxis`` per axis (e.g. ``Design.axis_cage.axes``).
+    """
+    out = []
+    for ax in axes:
+        s = axis_sensitivity(ax, tolerance, box_m=box_m, sphere_radius_m=sphere_radius_m)
+        what = f"{ax.axis} ({ax.system} {ax.shape} coils)" if ax.system != "pair" else f"{ax.axis} ({ax.shape} pair)"
+        if s.deviation > s.tolerance:
+            out.append(f"{what}: misses {tolerance * 100:g} % even as built exactly "
+                       f"({s.deviation * 100:.3g} %)")
+            continue
+        at_least_shift = "at least " if s.max_position_error_m >= MAX_SHIFT_PER_SIZE * ax.size_m * (1 - 1e-9) else ""
+        at_least_tilt = "at least " if s.max_tilt_deg >= MAX_TILT_DEG * (1 - 1e-9) else ""
+        out.append(f"{what}: keep each coil plane within {at_least_shift}{s.max_position_error_m * 1000:.3g} mm "
+                   f"of its place and its tilt under {at_least_tilt}{s.max_tilt_deg:.3g} deg for "
+                   f"{tolerance * 100:g} % over the test volume (as designed: {s.deviation * 100:.3g} %)")
+    return out
+
+
+def axis_pack_difference(ax: CoilAxis, pack: FilamentPack, box_m, n_per_edge: int = 9):
+    """``cage.coils.PackDifference`` of an axis of any coils: its winding-pack model (every coil's
+    turns spread over its channel) against the one-filament model, per ampere, over the test box
+    (faces sampled, as ``cage.coils.pack_vs_filament_difference``)."""
+    from cage.coils import PackDifference
+    from cage.uniformity import box_points_m, deviation_of_field
+
+    if not isinstance(pack, FilamentPack):
+        raise InputError(f"pack must be a FilamentPack, got {type(pack).__name__}")
+    pts = np.vstack([np.zeros((1, 3)), box_points_m(box_m, n_per_edge)])
+    b_fil = filaments_field_T(axis_filaments(ax), pts)
+    b_pack = filaments_field_T(axis_filaments(ax, pack), pts)
+    i = AXES.index(ax.axis)
+    ref = float(np.linalg.norm(b_fil[0]))
+    diff = np.linalg.norm(b_pack - b_fil, axis=1) / ref
+    return PackDifference(
+        centre_field_filament_T=float(b_fil[0, i]),
+        centre_field_pack_T=float(b_pack[0, i]),
+        centre_relative=float(diff[0]),
+        box_max_relative=float(diff.max()),
+        box_deviation_filament=deviation_of_field(b_fil),
+        box_deviation_pack=deviation_of_field(b_pack),
+        box_m=tuple(float(v) for v in np.broadcast_to(np.asarray(box_m, dtype=float), (3,))),
+    )

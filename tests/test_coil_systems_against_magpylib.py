@@ -213,3 +213,27 @@ def test_sensitivity_limits_hold_in_magpylib():
     rp = smallest_uniform_axis("x", "square", "pair", 1e-3, box_m=box)
     sp = axis_sensitivity(system_axis("x", "square", "pair", 1.1 * rp.size_m), 1e-3, box_m=box)
     assert sp.max_position_error_m > s.max_position_error_m
+
+
+def test_sensitivity_summary_lines_and_pack_difference():
+    from cage.axissizing import axis_pack_difference, sensitivity_summary_lines
+    from cage.coilaxis import axis_from_pair
+    from cage.coils import CoilPair, FilamentPack, pack_vs_filament_difference
+
+    axes = [system_axis("x", "square", "four", 1.6), system_axis("y", "square", "pair", 1.0)]
+    lines = sensitivity_summary_lines(axes, 1e-3, box_m=(0.5, 0.5, 0.5))
+    assert lines[0].startswith("x (four square coils): keep each coil plane within ")
+    assert "mm" in lines[0] and "deg" in lines[0]
+    assert lines[1].startswith("y (square pair): misses 0.1 %")  # a 1 m pair is far too small
+    pair = CoilPair("x", "square", 1.5, 0.8, 40)
+    pack = FilamentPack(0.001, 0.01)
+    a = pack_vs_filament_difference(pair, pack, (0.4, 0.4, 0.4))
+    b = axis_pack_difference(axis_from_pair(pair), pack, (0.4, 0.4, 0.4))
+    assert b.centre_field_pack_T == pytest.approx(a.centre_field_pack_T, rel=1e-12)
+    assert b.box_deviation_pack == pytest.approx(a.box_deviation_pack, rel=1e-9)
+    # the pack of a four-coil axis against magpylib: one loop per turn on the pack grid
+    ax = system_axis("z", "round", "four", 0.9, multiplier=6)
+    d = axis_pack_difference(ax, pack, (0.4, 0.4, 0.4))
+    src = magpy.Collection(*[_mag_coil("z", "round", c.position_m + along, c.size_m + radial, 1.0)
+                             for c in ax.coils for along, radial in pack.offsets_m(c.turns)])
+    assert d.centre_field_pack_T == pytest.approx(src.getB(np.zeros(3))[2], rel=1e-10)
