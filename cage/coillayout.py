@@ -200,3 +200,18 @@ def smallest_nesting_axis_size_m(axis: str, shape: str, system: str, inner, fram
         if trial > lo + 1e-12:
             lo = max(lo, trial)
     return _bisect_edge(ok, good=hi, bad=lo, tolerance=tolerance_m)
+
+
+def design_geometry_problems(design, frame: FrameSpec, test_volume_m=None) -> list[str]:
+    """``cage.layout.geometry_problems`` for a design of pairs (its messages unchanged), else
+    ``axes_geometry_problems`` of every coil (``cage.designfile.Design``)."""
+    from cage.layout import geometry_problems
+
+    if design.all_pairs:
+        return geometry_problems(design.cage, frame, test_volume_m)
+    return axes_geometry_problems(design.axis_cage, frame, test_volume_m)
+
+
+def design_envelope_m(design, frame: FrameSpec) -> np.ndarray:
+    """Outer size (3,) of every frame of a design (``cage.designfile.Design``), cage x, y, z."""
+    return axes_envelope_m(design.axis_cage, frame)

@@ -469,3 +469,12 @@ def coil_axis_electrics(
         current_density_high=density > CURRENT_DENSITY_LIMIT_A_PER_MM2,
         ambient_temperature_C=ambient,
     )
+
+
+def electrics_of(geometry, wire: Wire | str, current_A: float, **kwargs):
+    """``axis_electrics`` for a ``CoilPair``, ``coil_axis_electrics`` for a ``cage.coilaxis.CoilAxis``
+    (same keyword arguments); for callers that take either, e.g. a design file's axis
+    (``AxisDesign.pair or AxisDesign.coil_axis``)."""
+    if isinstance(geometry, CoilPair):
+        return axis_electrics(geometry, wire, current_A, **kwargs)
+    return coil_axis_electrics(geometry, wire, current_A, **kwargs)
