@@ -237,3 +237,30 @@ def test_sensitivity_summary_lines_and_pack_difference():
     src = magpy.Collection(*[_mag_coil("z", "round", c.position_m + along, c.size_m + radial, 1.0)
                              for c in ax.coils for along, radial in pack.offsets_m(c.turns)])
     assert d.centre_field_pack_T == pytest.approx(src.getB(np.zeros(3))[2], rel=1e-10)
+
+
+def test_a_room_too_small_for_any_pair_takes_a_nested_four_coil_cage():
+    # 0.5 m cube at 0.1 %: a square pair needs about 3.8 m of side (issue 16), more than a
+    # 3.0 m high room less 0.3 m clearance each side gives; nested four-square-coil axes fit.
+    from types import SimpleNamespace
+
+    from cage.coillayout import check_axes_layout, smallest_nesting_axis_size_m
+    from cage.layout import FrameSpec
+
+    box = (0.5, 0.5, 0.5)
+    room = SimpleNamespace(length_m=4.0, width_m=4.0, height_m=3.0, clearance_m=0.3)
+    pair = smallest_uniform_axis("z", "square", "pair", 1e-3, box_m=box)
+    assert pair.size_m == pytest.approx(3.76, abs=0.02)
+    assert pair.size_m > room.height_m - 2 * room.clearance_m
+    frame = FrameSpec(0.04, 0.04, 0.01)
+    axes = {}
+    inner = []
+    for name in ("z", "y", "x"):  # innermost first
+        lower = smallest_uniform_axis(name, "square", "four", 1e-3, box_m=box).size_m
+        size = smallest_nesting_axis_size_m(name, "square", "four", inner, frame, lower)
+        axes[name] = system_axis(name, "square", "four", size)
+        inner.append(axes[name])
+    layout = check_axes_layout(AxisCage(axes["x"], axes["y"], axes["z"]), frame, room)
+    assert layout.nests and layout.fits_room
+    for name in AXES:
+        assert _mag_deviation(_mag_axis(axes[name]), _cube_surface(0.5, 17)) <= 1e-3 * 1.005
