@@ -237,16 +237,10 @@ class AxisSensitivity:
 
 
 def _largest_ok(ok, upper: float, rel: float = 1e-3) -> float:
-    if ok(upper):
-        return upper
-    lo, hi = 0.0, upper
-    while hi - lo > rel * upper:
-        mid = 0.5 * (lo + hi)
-        if ok(mid):
-            lo = mid
-        else:
-            hi = mid
-    return lo
+    """Largest error in [0, upper] where ``ok`` holds (it holds at 0), by bisection."""
+    from cage.layout import _bisect_edge
+
+    return upper if ok(upper) else _bisect_edge(ok, good=0.0, bad=upper, tolerance=rel * upper)
 
 
 def axis_sensitivity(ax: CoilAxis, tolerance: float, *, box_m=None, sphere_radius_m=None) -> AxisSensitivity:
@@ -306,23 +300,8 @@ def axis_pack_difference(ax: CoilAxis, pack: FilamentPack, box_m, n_per_edge: in
     """``cage.coils.PackDifference`` of an axis of any coils: its winding-pack model (every coil's
     turns spread over its channel) against the one-filament model, per ampere, over the test box
     (faces sampled, as ``cage.coils.pack_vs_filament_difference``)."""
-    from cage.coils import PackDifference
-    from cage.uniformity import box_points_m, deviation_of_field
+    from cage.coils import filaments_pack_difference
 
     if not isinstance(pack, FilamentPack):
         raise InputError(f"pack must be a FilamentPack, got {type(pack).__name__}")
-    pts = np.vstack([np.zeros((1, 3)), box_points_m(box_m, n_per_edge)])
-    b_fil = filaments_field_T(axis_filaments(ax), pts)
-    b_pack = filaments_field_T(axis_filaments(ax, pack), pts)
-    i = AXES.index(ax.axis)
-    ref = float(np.linalg.norm(b_fil[0]))
-    diff = np.linalg.norm(b_pack - b_fil, axis=1) / ref
-    return PackDifference(
-        centre_field_filament_T=float(b_fil[0, i]),
-        centre_field_pack_T=float(b_pack[0, i]),
-        centre_relative=float(diff[0]),
-        box_max_relative=float(diff.max()),
-        box_deviation_filament=deviation_of_field(b_fil),
-        box_deviation_pack=deviation_of_field(b_pack),
-        box_m=tuple(float(v) for v in np.broadcast_to(np.asarray(box_m, dtype=float), (3,))),
-    )
+    return filaments_pack_difference(axis_filaments(ax), axis_filaments(ax, pack), ax.axis, box_m, n_per_edge)

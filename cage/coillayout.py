@@ -33,7 +33,7 @@ from cage.layout import (
     _curve_to_circle_m,
     _segments_distance_m,
     _square_segments,
-    room_inner_m,
+    layout_from,
 )
 
 __all__ = [
@@ -94,22 +94,7 @@ def check_axes_layout(cage: AxisCage, frame: FrameSpec, room=None) -> Layout:
     for i in range(3):
         for j in range(i + 1, 3):
             distances[(axes[i].axis, axes[j].axis)] = axes_min_distance_m(axes[i], axes[j])
-    closest = min(distances, key=distances.get)
-    dmin = distances[closest]
-    env = axes_envelope_m(cage, frame)
-    order = tuple(ax.axis for ax in sorted(axes, key=lambda ax: (-ax.half_width_m, AXES.index(ax.axis))))
-    inner = None if room is None else room_inner_m(room)
-    fits = True if inner is None else bool(np.all(env <= inner + 1e-12))
-    return Layout(
-        envelope_m=tuple(float(v) for v in env),
-        min_distance_m=dmin,
-        clearance_m=dmin - math.hypot(frame.width_m, frame.depth_m),
-        closest_axes=closest,
-        order=order,
-        nests=dmin >= frame.needed_distance_m - 1e-12,
-        room_inner_m=None if inner is None else tuple(float(v) for v in inner),
-        fits_room=fits,
-    )
+    return layout_from(distances, axes_envelope_m(cage, frame), axes, frame, room)
 
 
 def axis_clears(ax: CoilAxis, others, frame: FrameSpec) -> bool:

@@ -411,13 +411,7 @@ class _Reader:
         path = f"axes.{name}"
         obj = self.object(value, path)
         self.check_keys(obj, path, _AXIS_KEYS)
-        if "shape" not in obj:
-            self.fail(f"{path}.shape", 'is missing (expected "square" or "round")')
-        shape = obj["shape"]
-        if shape not in SHAPES:
-            close = difflib.get_close_matches(str(shape).lower(), SHAPES, n=1) if isinstance(shape, str) else []
-            hint = f' (did you mean "{close[0]}"?)' if close else ""
-            self.fail(f"{path}.shape", f'must be "square" or "round", got {_show(shape)}{hint}')
+        shape = self.shape(obj, path)
         size_key, other_key = ("side_m", "radius_m") if shape == "square" else ("radius_m", "side_m")
         if other_key in obj:
             self.fail(f"{path}.{other_key}", f"does not apply to a {shape} coil (give {size_key})")

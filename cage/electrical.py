@@ -337,42 +337,17 @@ class CoilElectrics:
 
 
 @dataclass(frozen=True)
-class CoilAxisElectrics:
-    """Electrical and thermal state of an axis of any number of coils in series (see
-    ``AxisElectrics``; the same names mean the same whole-axis quantities).
+class CoilAxisElectrics(AxisElectrics):
+    """Electrical and thermal state of an axis of any number of coils in series: an
+    ``AxisElectrics`` (the same names mean the same whole-axis quantities) with per-coil figures.
 
-    coils: per-coil figures (``CoilElectrics``). turns: the most turns of any coil.
+    coils: ``CoilElectrics`` per coil. turns, layers: the most of any coil.
     winding_temperature_C: the hottest coil. mutual_inductance_H: the sum over all pairs of
     coils of their mutual inductances (each pair counted once); inductance_H = sum of self +
     2 x that sum. self_inductance_H: the sum of the coils' self inductances.
     """
 
-    wire_name: str
-    coils: tuple[CoilElectrics, ...]
-    turns: int
-    layers: int
-    turns_per_layer: int
-    wire_length_m: float
-    lead_length_m: float
-    resistance_20C_ohm: float
-    lead_resistance_20C_ohm: float
-    resistance_hot_ohm: float
-    inductance_H: float
-    self_inductance_H: float
-    mutual_inductance_H: float
-    time_constant_s: float
-    copper_mass_kg: float
-    current_A: float
-    winding_temperature_C: float
-    temperature_converged: bool
-    power_W: float
-    voltage_V: float
-    current_density_A_per_mm2: float
-    current_density_high: bool
-    ambient_temperature_C: float = DEFAULT_AMBIENT_TEMPERATURE_C
-
-    lead_resistance_ambient_ohm = AxisElectrics.lead_resistance_ambient_ohm
-    circuit_resistance_ohm = AxisElectrics.circuit_resistance_ohm
+    coils: tuple[CoilElectrics, ...] = ()
 
 
 def coil_axis_electrics(

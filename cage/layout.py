@@ -206,10 +206,16 @@ def check_layout(cage: CoilCage, frame: FrameSpec, room=None) -> Layout:
     for i in range(3):
         for j in range(i + 1, 3):
             distances[(pairs[i].axis, pairs[j].axis)] = min_centreline_distance_m(pairs[i], pairs[j])
+    return layout_from(distances, envelope_m(cage, frame), pairs, frame, room)
+
+
+def layout_from(distances: dict, envelope, parts, frame: FrameSpec, room=None) -> Layout:
+    """The ``Layout`` from the centreline distances between axes ({(a, b): m}), the envelope
+    (3,) and the axes' parts (pairs or coil axes: ``axis`` and ``half_width_m``)."""
     closest = min(distances, key=distances.get)
     dmin = distances[closest]
-    env = envelope_m(cage, frame)
-    order = tuple(p.axis for p in sorted(pairs, key=lambda p: (-p.half_width_m, AXES.index(p.axis))))
+    env = np.asarray(envelope, dtype=float)
+    order = tuple(p.axis for p in sorted(parts, key=lambda p: (-p.half_width_m, AXES.index(p.axis))))
     inner = None if room is None else room_inner_m(room)
     fits = True if inner is None else bool(np.all(env <= inner + 1e-12))
     return Layout(
