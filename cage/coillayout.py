@@ -19,20 +19,17 @@ pairs these functions give the numbers of ``cage.layout``.
 """
 from __future__ import annotations
 
-import math
-
 import numpy as np
 
 from cage.coilaxis import AxisCage, Coil, CoilAxis
 from cage.coils import AXES, CoilPair
 from cage.layout import (
-    NESTING_STEP_M,
     FrameSpec,
     Layout,
-    _bisect_edge,
     _curve_to_circle_m,
     _segments_distance_m,
     _square_segments,
+    first_clear_size_m,
     layout_from,
 )
 
@@ -158,33 +155,19 @@ def smallest_nesting_axis_size_m(axis: str, shape: str, system: str, inner, fram
     """Smallest nominal size >= lower_m of ``system`` (``cage.coilsystems.system_axis``) on
     ``axis`` whose every coil clears every coil of the axes in ``inner``.
 
-    The scan of ``cage.layout.smallest_nesting_size_m``: a fixed grid of ``NESTING_STEP_M``
-    (clearance is not monotone in size), every fourth point first, then the grid points just
-    below the first hit, then bisection; the size returned always clears. ValueError beyond
-    upper_m.
+    The scan of ``cage.layout.smallest_nesting_size_m`` (``first_clear_size_m``: a fixed 1 cm
+    grid, clearance not being monotone in size, then bisection); the size returned always
+    clears. ValueError beyond upper_m.
     """
     from cage.coilsystems import system_axis
 
     def ok(size: float) -> bool:
         return axis_clears(system_axis(axis, shape, system, size), inner, frame)
 
-    if not inner or ok(lower_m):
+    if not inner:
         return float(lower_m)
-    lo = float(lower_m)
-    first = (math.floor(lo / NESTING_STEP_M) + 1) * NESTING_STEP_M
-    hi = first
-    while not ok(hi):
-        lo, hi = hi, hi + 4 * NESTING_STEP_M
-        if hi > upper_m:
-            raise ValueError(f"no {shape} {system} {axis} axis up to {upper_m:g} m clears the inner axes")
-    for k in (3, 2, 1):
-        trial = hi - k * NESTING_STEP_M
-        if trial > lo + 1e-12 and trial >= first - 1e-12 and ok(trial):
-            hi = trial
-            break
-        if trial > lo + 1e-12:
-            lo = max(lo, trial)
-    return _bisect_edge(ok, good=hi, bad=lo, tolerance=tolerance_m)
+    return first_clear_size_m(ok, lower_m, upper_m, tolerance_m,
+                              f"no {shape} {system} {axis} axis up to {upper_m:g} m clears the inner axes")
 
 
 def design_geometry_problems(design, frame: FrameSpec, test_volume_m=None) -> list[str]:
