@@ -43,7 +43,6 @@ __all__ = [
     "axis_field_T",
     "axis_cage_filaments",
     "axis_cage_field_T",
-    "coil_pack_offsets_m",
 ]
 
 # The coil systems an axis may be (cage.coilsystems derives their geometry); "custom" is any
@@ -175,12 +174,6 @@ def pair_from_axis(ax: CoilAxis) -> CoilPair | None:
     if b.position_m <= 0:
         return None
     return CoilPair(ax.axis, ax.shape, float(a.size_m), float(b.position_m - a.position_m), int(a.turns))
-
-
-def coil_pack_offsets_m(pack: FilamentPack, turns: int) -> np.ndarray:
-    """(turns, 2) offsets of one coil's filaments from its centreline (along the axis, radially
-    outward): the winding pack of each coil of an axis, as ``FilamentPack.offsets_m``."""
-    return pack.offsets_m(turns)
 
 
 def axis_filaments(ax: CoilAxis, pack: FilamentPack | None = None) -> Filaments:
