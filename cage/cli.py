@@ -395,11 +395,11 @@ def compare(
 def _load_checked_design(path: Path):
     """A design file that can be built: frames that do not collide, coils around the test volume."""
     from cage.designfile import design_to_dict, load_design
-    from cage.layout import geometry_problems
+    from cage.coillayout import design_geometry_problems
 
     design_obj = load_design(path)
     volume, _, frame, _ = _design_context(design_to_dict(design_obj))
-    problems = geometry_problems(design_obj.cage, frame, volume)
+    problems = design_geometry_problems(design_obj, frame, volume)
     if problems:
         raise InputError(f"{path}: {problems[0]}; was the design file edited?")
     return design_obj
@@ -863,22 +863,22 @@ def _axis_circuits(design_obj, supplies, ambient_C, where: str = "design file"):
     """Per axis: circuit resistance at full-range temperature (winding + leads) and inductance."""
     import numpy as np
 
-    from cage.electrical import axis_electrics
+    from cage.electrical import electrics_of
 
     r, ind = [], []
     for a, s in zip(design_obj.axes, supplies):
         if a.inductance_H is None:
-            raise InputError(f"{where}: axes.{a.pair.axis}.inductance_H is missing; a sequence needs it "
+            raise InputError(f"{where}: axes.{a.name}.inductance_H is missing; a sequence needs it "
                              f"(make the design with cage design)")
         if a.wire is not None and a.frame_width_m is not None and a.frame_depth_m is not None:
-            el = axis_electrics(a.pair, a.wire, a.max_current_A or s.max_current_A,
+            el = electrics_of(a.pair or a.coil_axis, a.wire, a.max_current_A or s.max_current_A,
                                 lead_length_m=a.lead_length_m or 0.0, frame_width_m=a.frame_width_m,
                                 frame_depth_m=a.frame_depth_m, ambient_temperature_C=ambient_C)
             r.append(el.circuit_resistance_ohm)
         elif a.resistance_hot_ohm is not None:
             r.append(a.resistance_hot_ohm)
         else:
-            raise InputError(f"{where}: axes.{a.pair.axis} has neither wire nor resistance_hot_ohm")
+            raise InputError(f"{where}: axes.{a.name} has neither wire nor resistance_hot_ohm")
         ind.append(a.inductance_H)
     return np.array(r), np.array(ind)
 
