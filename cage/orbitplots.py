@@ -49,7 +49,7 @@ def orbit_figure(t_s, body_nT, latitude_deg, longitude_deg, title: str = "", att
         top.set_ylabel("field (µT)")
         top.set_xlim(x[0], x[-1])
         top.grid(True, linewidth=0.4, alpha=0.5)
-        top.legend(loc="upper right", ncols=4)
+        top.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0))
         top.set_title(f"Field in the body frame{' (' + attitude + ')' if attitude else ''}")
 
         norm = matplotlib.colors.Normalize(vmin=float(total_uT.min()), vmax=float(total_uT.max()))
