@@ -228,10 +228,17 @@ def rate_lines(t_s, field_nT, rate_Hz: float, error_nT: float) -> list[str]:
     rate = field_rate(t_s, field_nT)
     latency = allowed_latency_s(rate.largest_rate_nT_per_s, error_nT)
     hold_nT = rate.largest_rate_nT_per_s / rate_Hz
+    hold_s = 1.0 / rate_Hz
+    if math.isinf(latency):
+        lag = "any time (the field stands still)"
+    else:
+        left = latency - hold_s
+        rest = (f", leaving {left * 1000:.1f} ms for the rest of the loop" if left >= 0
+                else ", more than the whole budget")
+        lag = (f"{latency * 1000:.1f} ms (rate x delay); holding each value for {hold_s * 1000:g} ms at "
+               f"{rate_Hz:g} Hz uses that much of it (up to {hold_nT:.2f} nT of lag){rest}")
     lines = [f"Largest field rate needed: {rate.largest_rate_nT_per_s:.1f} nT/s (at t = {rate.at_t_s:g} s)",
-             f"For a {error_nT:g} nT error the whole loop may lag at most "
-             f"{'any time' if math.isinf(latency) else f'{latency * 1000:.1f} ms'} (rate x delay); "
-             f"holding each value for 1/{rate_Hz:g} Hz = {1000 / rate_Hz:g} ms costs up to {hold_nT:.2f} nT"]
+             f"For a {error_nT:g} nT error the whole loop may lag at most {lag}"]
     if not math.isinf(latency) and 1.0 / rate_Hz > latency:
         lines.append(f"warning: at {rate_Hz:g} Hz the hold alone exceeds the {error_nT:g} nT error budget; "
                      f"update at {rate.largest_rate_nT_per_s / error_nT:.3g} Hz or more")

@@ -109,6 +109,13 @@ def test_series_feeds_sequence_as_is_and_through_a_pipe(tmp_path, run_cli, tle, 
     assert "t=300.000s" in run.out
 
 
+def test_start_far_from_the_epoch_warns(tmp_path, run_cli, tle):
+    run = run_cli("orbit", tle, "--start", "2027-05-10T00:00:00", "--duration-s", "60", "--out", tmp_path / "f.csv")
+    assert run.code == 0 and "70 days from the elements' epoch" in run.err
+    run = run_cli("orbit", tle, "--start", "2027-03-20T00:00:00", "--duration-s", "60", "--out", tmp_path / "f.csv")
+    assert run.code == 0 and "epoch" not in run.err
+
+
 def test_past_2030_warns_like_everywhere(tmp_path, run_cli, tle):
     run = run_cli("orbit", "--altitude-km", "500", "--inclination-deg", "45", "--start", "2031-06-01T00:00:00",
                   "--duration-s", "600", "--out", tmp_path / "late.csv")
