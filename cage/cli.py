@@ -937,11 +937,12 @@ def sequence(
         if series_frame is not None and series_frame not in ("cage", "ned"):
             raise InputError(f"--series-frame must be cage or ned, got {series_frame!r}")
         if orbit is not None:
-            from cage.cmd_orbit import read_orbit_series
+            from cage.cmd_orbit import rate_lines, read_orbit_series
 
             if series_frame not in (None, "cage"):
                 raise InputError("an orbit series is in the body frame, which is the cage frame; drop --series-frame")
             data = read_orbit_series(orbit)
+            summary = rate_lines(data.t_s, data.field_nT, rate_Hz, latency_error_nT)
         else:
             data = read_field_series_csv(series, frame=series_frame)
         t, field_nT = resample_series(data.t_s, data.field_nT, rate_Hz)
@@ -966,9 +967,6 @@ def sequence(
             warnings.append(f"{len(check.failing_steps)} of {len(table.rows)} steps cannot be followed at "
                             f"{rate_Hz:g} Hz: {shown}{more}")
     if orbit is not None:
-        from cage.cmd_orbit import rate_lines
-
-        summary = rate_lines(data.t_s, data.field_nT, rate_Hz, latency_error_nT)
         warnings += [w for w in summary if w.startswith("warning")]
     table = dataclasses.replace(table, warnings=tuple(warnings))
     if dt is None:

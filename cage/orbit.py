@@ -36,7 +36,7 @@ WGS84_F = 1.0 / 298.257223563
 WGS84_E2 = WGS84_F * (2.0 - WGS84_F)
 WGS72_MU_KM3_S2 = 398600.8  # the gravity constant SGP4 element sets are made with (WGS72)
 SECONDS_PER_DAY = 86400.0
-MAX_SAMPLES = 2_000_000
+MAX_SAMPLES = 1_000_000
 SGP4_EPOCH_ORIGIN = _dt.datetime(1949, 12, 31)  # sgp4init's epoch counts days from here (UT)
 
 
