@@ -168,3 +168,20 @@ def test_quaternion_table_must_cover_the_span(tmp_path, run_cli):
     q.write_text("t_s,qw,qx,qy,qz\n0,2,0,0,0\n60,1,0,0,0\n")
     assert_one_line_error(run_cli("orbit", "--altitude-km", "420", "--inclination-deg", "10", "--start", START,
                                   "--duration-s", "60", "--quaternions", q), "not 1")
+
+
+def test_figure_shows_the_series_it_was_given(tmp_path, run_cli, tle):
+    """The orbit figure's curves and ground-track colours are the CSV's numbers (uT)."""
+    from cage.orbitplots import orbit_figure
+
+    out = tmp_path / "f.csv"
+    assert run_cli("orbit", tle, "--start", START, "--duration-s", "6000", "--step-s", "10", "--out", out).code == 0
+    d = _load(out)
+    fig = orbit_figure(d[:, 0], d[:, 1:4], d[:, 4], d[:, 5], title="t", attitude="nadir")
+    lines = {ln.get_gid(): ln for ax in fig.axes for ln in ax.get_lines() if ln.get_gid()}
+    for j, a in enumerate("xyz"):
+        assert np.allclose(lines[f"field-{a}"].get_ydata(), d[:, 1 + j] / 1000.0)
+    assert np.allclose(lines["field-total"].get_ydata(), d[:, 7] / 1000.0, atol=1e-5)
+    track = [c for ax in fig.axes for c in ax.collections if c.get_gid() == "ground-track"][0]
+    assert np.allclose(track.get_offsets(), d[:, [5, 4]])
+    assert np.allclose(track.get_array(), np.linalg.norm(d[:, 1:4], axis=1) / 1000.0)
