@@ -233,9 +233,9 @@ def rate_lines(t_s, field_nT, rate_Hz: float, error_nT: float) -> list[str]:
         lag = "any time (the field stands still)"
     else:
         left = latency - hold_s
-        rest = (f", leaving {left * 1000:.1f} ms for the rest of the loop" if left >= 0
+        rest = (f", leaving {left * 1000:.3g} ms for the rest of the loop" if left >= 0
                 else ", more than the whole budget")
-        lag = (f"{latency * 1000:.1f} ms (rate x delay); holding each value for {hold_s * 1000:g} ms at "
+        lag = (f"{latency * 1000:.3g} ms (rate x delay); holding each value for {hold_s * 1000:g} ms at "
                f"{rate_Hz:g} Hz uses that much of it (up to {hold_nT:.2f} nT of lag){rest}")
     lines = [f"Largest field rate needed: {rate.largest_rate_nT_per_s:.1f} nT/s (at t = {rate.at_t_s:g} s)",
              f"For a {error_nT:g} nT error the whole loop may lag at most {lag}"]
