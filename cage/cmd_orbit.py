@@ -191,10 +191,14 @@ def orbit(
         typer.echo(text, nl=False)
     for line in summary_lines(name, epoch_time, when, result, att):
         typer.echo(line, err=to_stderr)
+    from cage.escape import for_terminal
+
     if out is not None:
-        typer.echo(f"Wrote {out}; replay it with: cage sequence DESIGN.json SITE.toml --orbit {out}", err=to_stderr)
+        shown = for_terminal(out)
+        typer.echo(f"Wrote {shown}; replay it with: cage sequence DESIGN.json SITE.toml --orbit {shown}",
+                   err=to_stderr)
     if plot is not None:
-        typer.echo(f"Wrote {plot}", err=to_stderr)
+        typer.echo(f"Wrote {for_terminal(plot)}", err=to_stderr)
 
 
 def read_orbit_series(path: Path):
