@@ -1005,7 +1005,9 @@ def sequence(
 # ----------------------------------------------------------------------------- commands in their own modules
 
 from cage import cmd_orbit as _cmd_orbit  # noqa: E402
+from cage import cmd_tolerance as _cmd_tolerance  # noqa: E402
 
+_cmd_tolerance.register(app)
 _cmd_orbit.register(app)
 
 
