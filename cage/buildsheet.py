@@ -68,6 +68,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
+from types import SimpleNamespace
 
 from cage.coils import AXES, CoilPair
 from cage.errors import InputError
@@ -498,7 +499,9 @@ def axis_build(a, supply=None, *, spool_masses_kg=STANDARD_SPOOL_MASSES_KG,
     from cage.electrical import winding_pack
     from cage.wires import wire_from_name
 
-    pair = a.pair
+    ca = getattr(a, "coil_axis", None)
+    # the axis's name, shape and nominal (largest) size, from its coil list or its pair
+    pair = SimpleNamespace(axis=ca.axis, shape=ca.shape, size_m=ca.size_m) if ca is not None else a.pair
     where = f"axes.{pair.axis}"
     for key in ("wire", "frame_width_m", "frame_depth_m"):
         if getattr(a, key) is None:

@@ -102,7 +102,7 @@ def test_four_coil_axis_wiring_and_field():
              ((-0.5055, 26), (-0.1281, 11), (0.1281, 11), (0.5055, 26))]  # positions and turns: our test values
     axis = NS(pair=CoilPair("y", "square", side, 0.5445 * side, 26), wire="AWG 16", frame_width_m=0.03,
               frame_depth_m=0.03, max_current_A=2.0, lead_length_m=5.0, resistance_hot_ohm=None, inductance_H=0.01,
-              field_per_amp_nT=None, winding_temperature_C=None, coil_axis=NS(shape="square", coils=coils))
+              field_per_amp_nT=None, winding_temperature_C=None, coil_axis=NS(axis="y", shape="square", size_m=side, coils=coils))
     b = axis_build(axis)
     assert [c.label for c in b.coils] == ["y1", "y2", "y3", "y4"]
     assert [c.turns for c in b.coils] == [26, 11, 11, 26]
