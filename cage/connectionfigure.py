@@ -59,9 +59,10 @@ def connection_figure(axis: AxisBuild):
     pos = [c.position_m for c in axis.coils]
     span = max(pos) - min(pos) or 1.0
     top, bottom = 1.0, -1.0
-    for c in axis.coils:
+    for k, c in enumerate(axis.coils):
         right.plot([c.position_m, c.position_m], [bottom, top], color=colour, lw=5, solid_capstyle="butt")
-        right.text(c.position_m, top + 0.12, f"{c.label}\n{c.position_m:+.3f} m", ha="center", fontsize=7)
+        lift = 0.0 if len(axis.coils) <= 2 or k % 2 == 0 else 0.5  # close coils: labels staggered
+        right.text(c.position_m, top + 0.12 + lift, f"{c.label}\n{c.position_m:+.3f} m", ha="center", fontsize=7)
         right.text(c.position_m - 0.03 * span, 0.55, "S", ha="right", fontsize=7)
         right.text(c.position_m + 0.03 * span, -0.55, "F", ha="left", fontsize=7)
     xs = [min(pos) - 0.35 * span, max(pos) + 0.35 * span]
@@ -80,10 +81,11 @@ def connection_figure(axis: AxisBuild):
                    [mid_y, mid_y, 0.55, 0.55], **wire)
     right.plot([pos[-1], xs[1], xs[1], minus_x, minus_x], [-0.55, -0.55, supply_y + 0.6, supply_y + 0.6,
                                                            supply_y + 0.22], **wire)
-    right.annotate(f"+{a}", xy=(xs[1] + 0.1 * span, 1.5), xytext=(xs[0], 1.5), fontsize=8, va="center",
+    arrow_y = 1.5 if len(axis.coils) <= 2 else 2.1
+    right.annotate(f"+{a}", xy=(xs[1] + 0.1 * span, arrow_y), xytext=(xs[0], arrow_y), fontsize=8, va="center",
                    arrowprops=dict(arrowstyle="->", color="0.3"))
     right.set_xlim(xs[0] - 0.15 * span, xs[1] + 0.25 * span)
-    right.set_ylim(supply_y - 0.5, 2.0)
+    right.set_ylim(supply_y - 0.5, arrow_y + 0.5)
     right.set_xticks([])
     right.set_yticks([])
     right.set_title("series aiding: S = start, F = finish", fontsize=9)
