@@ -92,10 +92,16 @@ class CoilSettings:
 
 @dataclass(frozen=True)
 class Measured:
-    """A survey inside the room: the field at the cage centre in the cage frame (nT)."""
+    """A survey inside the room: the field at the cage centre in the cage frame (nT).
+
+    date: the day of the survey (``measured.date``). Older files without it take the site's
+    ``date`` with ``date_assumed`` set (the user is warned); with neither, the file is refused.
+    """
 
     field_nT: tuple[float, float, float]
     note: str = ""
+    date: _dt.date | None = None
+    date_assumed: bool = False
 
 
 @dataclass(frozen=True)
@@ -134,7 +140,7 @@ _TABLE_KEYS = {
         "axis_order",
     ),
     "supply": ("axis", "max_voltage_V", "max_current_A", "resolution_A", "bipolar", "name"),
-    "measured": ("field_nT", "note"),
+    "measured": ("field_nT", "note", "date"),
 }
 
 
@@ -367,9 +373,15 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
         measured = Measured(
             field_nT=r.triple(meas_t, "field_nT", "measured.", default=None, allow_scalar=False, hi=None),
             note=r.text(meas_t, "note", "measured.", default=""),
+            date=parse_date(meas_t["date"], f"{where}: measured.date") if "date" in meas_t else None,
         )
         if math.sqrt(sum(v * v for v in measured.field_nT)) > 1e6:
             raise r.fail("measured.field_nT", "is above 1,000,000 nT (1 mT); is it in nT?")
+        if measured.date is None:
+            if not date_given:
+                raise r.fail("measured.date", "is missing: give the day of the survey (YYYY-MM-DD), so the "
+                                              "field can be carried to other dates")
+            measured = Measured(measured.field_nT, measured.note, date, True)
 
     return Site(name=name, date=date, date_given=date_given, location=location, orientation=orientation,
                 room=room, requirement=requirement, coil=coil, supplies=supplies, measured=measured, source=where)
