@@ -68,6 +68,7 @@ def _resolve_site(site_file: Optional[Path], lat: Optional[float], lon: Optional
         orientation = sitefile.Orientation(
             heading_deg=sitefile.check_heading(0.0 if heading_deg is None else heading_deg, "command line"),
             heading_reference="magnetic" if heading_magnetic else "true",
+            stated=heading_deg is not None or heading_magnetic,
         )
         return sitefile.Site(
             name=f"{location.latitude_deg:g}, {location.longitude_deg:g}", date=when, date_given=date is not None,
@@ -486,7 +487,7 @@ def _use_site(design, site, heading_explicit: bool):
     from cage.reuse import cage_heading, dip_pole_warning
 
     ori, loc = site.orientation, site.location
-    stated = None if (site.source == "command line" and not heading_explicit) else ori.heading_deg
+    stated = ori.heading_deg if (ori.stated or heading_explicit) else None
     decl = horizontal = 0.0
     if ori.heading_reference == "magnetic":
         from cage.geomag import earth_field
@@ -524,7 +525,7 @@ def _calibration_ambient(record, where, design_identity, site, amb):
     then_date = dt.date.fromisoformat(str(prov["model_date"]))
     carried = carry_survey(fit.offset_nT, then_date, site.date, model_cage_nT(lat, lon, alt, then_date, heading),
                            model_cage_nT(lat, lon, alt, site.date, heading), what=use.note)
-    return fit.coupling_nT_per_A, carried.field_cage_nT, "calibration (offset carried)", [carried.note]
+    return fit.coupling_nT_per_A, carried.field_cage_nT, "calibration", [carried.note]
 
 
 def _setpoint_context(design, site, calibration_file=None, heading_explicit: bool = False) -> _Context:
@@ -962,9 +963,9 @@ def calibrate(
     summary = calibration_summary(fit, check, readings.line_numbers)
     if out is not None:
         prov = _calibration_provenance(design_obj, site_file, date, data_file)
+        save_calibration(out, fit, source_file=str(data_file), design=str(design_file), provenance=prov.as_dict())
         for w in prov.warnings:
             _warn(w)
-        save_calibration(out, fit, source_file=str(data_file), design=str(design_file), provenance=prov.as_dict())
     if as_json:
         typer.echo(_dump_json(summary), nl=False)
     else:
@@ -987,7 +988,7 @@ def _calibration_provenance(design_obj, site_file, date, data_file):
         except (KeyError, TypeError):
             raise InputError("the design records no site position; give --site SITE.toml for the readings") from None
         site = sitefile.Site(name=str(rec.get("name", "")), date=sitefile.today_utc(), date_given=False,
-                             location=location, orientation=sitefile.Orientation(), room=None,
+                             location=location, orientation=sitefile.Orientation(stated=False), room=None,
                              requirement=sitefile.Requirement(), coil=sitefile.CoilSettings(), supplies=(),
                              measured=None, source=str(rec.get("file", "design file")))
     warnings = []

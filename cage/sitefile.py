@@ -48,6 +48,7 @@ class Orientation:
 
     heading_deg: float = 0.0
     heading_reference: str = "true"
+    stated: bool = True  # False when the site gives no heading (0 deg true assumed)
 
 
 @dataclass(frozen=True)
@@ -326,6 +327,7 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
                              lo=HEADING_RANGE_DEG[0], hi=HEADING_RANGE_DEG[1]),
         heading_reference=r.text(ori, "heading_reference", "orientation.", default="true",
                                  choices=("true", "magnetic")),
+        stated=bool(ori),
     )
 
     room_t = r.table(tree, "room", required=False)
