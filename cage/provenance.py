@@ -179,8 +179,9 @@ def stamp_design(design, prov: Provenance):
 
 def _one_line(text) -> str:
     """User text made safe for one comment line (the single switch point for escaping)."""
-    # until cage.escape lands: control characters and line breaks become spaces
-    return " ".join("".join(c if c.isprintable() else " " for c in str(text)).split())
+    from cage.escape import one_line
+
+    return one_line(str(text))
 
 
 def header_lines(prov: Provenance | dict, prefix: str = "# ") -> list[str]:
