@@ -175,7 +175,10 @@ class Carried:
 def carry_survey(measured_cage_nT, survey_date: _dt.date, use_date: _dt.date,
                  model_then_cage_nT, model_now_cage_nT, what: str = "survey") -> Carried:
     """The ``[measured]`` field (or a calibration offset) of ``survey_date`` at ``use_date``."""
-    out = carry_to_date(measured_cage_nT, model_then_cage_nT, model_now_cage_nT)
+    if survey_date == use_date:  # exactly as surveyed
+        out = np.asarray(measured_cage_nT, dtype=float)
+    else:
+        out = carry_to_date(measured_cage_nT, model_then_cage_nT, model_now_cage_nT)
     change = out - np.asarray(measured_cage_nT, dtype=float)
     if survey_date == use_date:
         note = f"{what} of {survey_date.isoformat()}"
