@@ -227,7 +227,7 @@ def calibration_plan(cal_prov: dict | None, design_identity: str, site_position,
             f"calibration made at {site[0]} ({site[1]:.4f}, {site[2]:.4f}): at this site only its coupling K is "
             f"used, with this site's field; its offset B0 holds at its own site only"))
     if cal_date != use_date:
-        return CalibrationUse("carried", f"calibration offset of {cal_date.isoformat()}")
+        return CalibrationUse("carried", "calibration offset")
     return CalibrationUse("as made", "")
 
 
