@@ -74,7 +74,8 @@ def trailing_slash_problem(argv) -> str:
 
 # ----------------------------------------------------------------------------- folder as a unit
 
-def _pid_alive(pid: int) -> bool:
+def pid_alive(pid: int) -> bool:
+    """True when a process with this id runs (or may: not ours to signal)."""
     if pid == os.getpid():
         return True
     try:
@@ -106,7 +107,7 @@ def clean_stale(target) -> list[Path]:
     target = Path(target)
     removed = []
     for p, tag, pid in sorted(_temporaries(target), key=lambda t: t[1] != OLD_TAG):
-        if _pid_alive(pid):
+        if pid_alive(pid):
             continue
         if tag == OLD_TAG and not target.exists():
             try:
