@@ -870,7 +870,8 @@ def plan(
     pngs = make_figures(design_obj, design_doc, setpoints_doc)
     html = report_html(json.loads(texts["field.json"]), design_doc, setpoints_doc, pngs)
     write_folder(out, {**texts, **pngs, "report.html": html})
-    _say(f"Plan for {site.name} ({amb.source} field, {amb.earth.date.isoformat()}) in {out}/")
+    _say(f"Plan for {site.name} ({amb.source} field, {amb.earth.date.isoformat()}) in {out}/; "
+         f"cage +x at {design_obj.site['heading_note']}")
     _say(design_table(plan_obj, inp, _packs_of(design_obj)))
     _say("")
     _say(setpoints_text(table))
