@@ -481,53 +481,6 @@ class _Context:
     provenance: object = None
 
 
-def _use_site(design, site, heading_explicit: bool):
-    """The site turned to the built cage's true azimuth (cage.reuse.cage_heading), and the warnings."""
-    from cage import sitefile
-    from cage.reuse import cage_heading, dip_pole_warning
-
-    ori, loc = site.orientation, site.location
-    stated = ori.heading_deg if (ori.stated or heading_explicit) else None
-    decl = horizontal = 0.0
-    if ori.heading_reference == "magnetic":
-        from cage.geomag import earth_field
-
-        e = earth_field(loc.latitude_deg, loc.longitude_deg, loc.altitude_m, site.date)
-        decl, horizontal = e.declination_deg, e.horizontal_nT
-    choice = cage_heading(design.site, stated, ori.heading_reference, heading_explicit, decl)
-    warnings = list(choice.warnings)
-    if choice.from_use_site:
-        warnings.append(dip_pole_warning(horizontal, ori.heading_reference))
-    site = dataclasses.replace(site, orientation=sitefile.Orientation(choice.heading_true_deg, "true"))
-    return site, choice.note, [w for w in warnings if w]
-
-
-def _calibration_ambient(record, where, design_identity, site, amb):
-    """Coupling, offset in force, source and notes of a calibration used at this site and date (cage.reuse)."""
-    import datetime as dt
-
-    from cage.ambient import model_cage_nT
-    from cage.reuse import calibration_plan, carry_survey
-
-    fit, prov = record.fit, record.provenance
-    loc = site.location
-    use = calibration_plan(prov, design_identity, (loc.latitude_deg, loc.longitude_deg, loc.altitude_m), site.date,
-                           where)
-    if use.offset == "not used":
-        return fit.coupling_nT_per_A, amb.in_force_cage_nT, f"{amb.source} + calibration coupling", [use.note]
-    if use.offset == "as made":
-        return fit.coupling_nT_per_A, fit.offset_nT, "calibration", [use.note] if use.note else []
-    from cage.provenance import site_of
-
-    _, lat, lon, alt = site_of(prov)
-    heading = prov.get("heading_true_deg")
-    heading = amb.heading_true_deg if not isinstance(heading, (int, float)) else float(heading)
-    then_date = dt.date.fromisoformat(str(prov["model_date"]))
-    carried = carry_survey(fit.offset_nT, then_date, site.date, model_cage_nT(lat, lon, alt, then_date, heading),
-                           model_cage_nT(lat, lon, alt, site.date, heading), what=use.note)
-    return fit.coupling_nT_per_A, carried.field_cage_nT, "calibration", [carried.note]
-
-
 def _setpoint_context(design, site, calibration_file=None, heading_explicit: bool = False) -> _Context:
     """Supplies, temperatures, field in force and warnings for a design used at a site."""
     from cage.ambient import site_ambient
@@ -535,7 +488,9 @@ def _setpoint_context(design, site, calibration_file=None, heading_explicit: boo
     from cage.setpoints import reuse_warnings
     from cage.supplies import supply_for_axis, validate_supply
 
-    site, heading_note, warnings = _use_site(design, site, heading_explicit)
+    from cage.reuse import calibration_ambient, site_for_design
+
+    site, heading_note, warnings = site_for_design(design, site, heading_explicit)
     amb = site_ambient(site)
     warnings = list(amb.warnings) + warnings
     if site.supplies:
@@ -565,7 +520,7 @@ def _setpoint_context(design, site, calibration_file=None, heading_explicit: boo
     if calibration_file is not None:
         from cage.calibrationfile import load_calibration_record
 
-        coupling, ambient_nT, source, notes = _calibration_ambient(
+        coupling, ambient_nT, source, notes = calibration_ambient(
             load_calibration_record(calibration_file), str(calibration_file), identity, site, amb)
         warnings += notes
         derived["calibration"] = str(calibration_file)
@@ -999,7 +954,9 @@ def _calibration_provenance(design_obj, site_file, date, data_file):
         site = dataclasses.replace(site, date=sitefile.today_utc())
         warnings.append(f"the calibration is dated today ({site.date.isoformat()}); give --date for the day of "
                         f"the readings")
-    site, heading_note, more = _use_site(design_obj, site, False)
+    from cage.reuse import site_for_design
+
+    site, heading_note, more = site_for_design(design_obj, site, False)
     from cage.ambient import site_ambient
     from cage.provenance import design_id, make_provenance
 

@@ -21,7 +21,9 @@ One place for the rules, so every command applies them the same way:
 - Dip pole (:func:`dip_pole_warning`): a magnetic heading where the horizontal field is
   below :data:`DIP_POLE_H_NT` has no usable declination.
 
-Pure functions on numbers, dates and plain dicts; nothing here prints or touches the disk.
+The rules are pure functions on numbers, dates and plain dicts; the last section applies them
+to a :class:`cage.sitefile.Site` and a loaded calibration (evaluating the field model). Nothing
+here prints or touches the disk.
 """
 from __future__ import annotations
 
@@ -308,3 +310,63 @@ def mixed_inputs(docs: dict) -> str:
         if d != designs[0][1]:
             return f"{designs[0][0]} is for design {designs[0][1]} but {name} for {d}"
     return ""
+
+
+# ----------------------------------------------------------------------------- applying the rules
+
+def site_for_design(design, site, heading_explicit: bool):
+    """(site, heading note, warnings): the site turned to the built cage's true azimuth.
+
+    Applies :func:`cage_heading` to a :class:`cage.sitefile.Site` used with ``design``; the
+    returned site has a true heading, so every later rotation uses the built cage's frame.
+    heading_explicit: the heading was given on the command line to replace the design's.
+    """
+    import dataclasses
+
+    from cage import sitefile
+
+    ori, loc = site.orientation, site.location
+    stated = ori.heading_deg if (ori.stated or heading_explicit) else None
+    decl = horizontal = 0.0
+    if ori.heading_reference == "magnetic":
+        from cage.geomag import earth_field
+
+        e = earth_field(loc.latitude_deg, loc.longitude_deg, loc.altitude_m, site.date)
+        decl, horizontal = e.declination_deg, e.horizontal_nT
+    choice = cage_heading(design.site, stated, ori.heading_reference, heading_explicit, decl)
+    warnings = list(choice.warnings)
+    if choice.from_use_site:
+        warnings.append(dip_pole_warning(horizontal, ori.heading_reference))
+    site = dataclasses.replace(site, orientation=sitefile.Orientation(choice.heading_true_deg, "true"))
+    return site, choice.note, [w for w in warnings if w]
+
+
+def calibration_ambient(record, where, design_identity, site, amb):
+    """(coupling nT/A (3, 3), ambient nT (3,) cage frame, source, notes) of a calibration used here.
+
+    Applies :func:`calibration_plan` to a loaded :class:`cage.calibrationfile.CalibrationRecord`
+    at ``site`` (already turned by :func:`site_for_design`) with its ambient field ``amb``: the
+    offset as made, carried to this date by the model's change at the calibration's position
+    and azimuth, or not used (this site's field in force, the calibration's coupling only).
+    """
+    import datetime as dt
+
+    from cage.ambient import model_cage_nT
+
+    fit, prov = record.fit, record.provenance
+    loc = site.location
+    use = calibration_plan(prov, design_identity, (loc.latitude_deg, loc.longitude_deg, loc.altitude_m), site.date,
+                           where)
+    if use.offset == "not used":
+        return fit.coupling_nT_per_A, amb.in_force_cage_nT, f"{amb.source} + calibration coupling", [use.note]
+    if use.offset == "as made":
+        return fit.coupling_nT_per_A, fit.offset_nT, "calibration", [use.note] if use.note else []
+    from cage.provenance import site_of
+
+    _, lat, lon, alt = site_of(prov)
+    heading = prov.get("heading_true_deg")
+    heading = amb.heading_true_deg if not isinstance(heading, (int, float)) else float(heading)
+    then_date = dt.date.fromisoformat(str(prov["model_date"]))
+    carried = carry_survey(fit.offset_nT, then_date, site.date, model_cage_nT(lat, lon, alt, then_date, heading),
+                           model_cage_nT(lat, lon, alt, site.date, heading), what=use.note)
+    return fit.coupling_nT_per_A, carried.field_cage_nT, "calibration", [carried.note]
