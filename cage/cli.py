@@ -373,6 +373,7 @@ def compare(
     from cage.optimise import plan_inputs_from_site
 
     site = sitefile.load_site(site_file)
+    _check_out(plot, site_file)
     values = parse_sizes(sizes)
     if site.room is None:
         raise InputError(f"{site.source}: no [room] table; compare needs the room the cage must fit")

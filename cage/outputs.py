@@ -152,7 +152,7 @@ def check_replaceable(target, names) -> None:
 
 def write_folder(target, files: dict) -> Path:
     """Write ``files`` (name -> bytes or str) as the whole folder ``target``, swapped in at once."""
-    target = Path(target)
+    target = Path(os.path.abspath(target))
     check_replaceable(target, files)
     try:
         target.parent.mkdir(parents=True, exist_ok=True)

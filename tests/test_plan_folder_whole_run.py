@@ -113,3 +113,35 @@ def test_trailing_slash_means_a_folder(tmp_path, run_cli):
     run = run_cli("design", SITES / "smallsat-lab.toml", "--out", f"{tmp_path}/design/")
     assert_one_line_error(run, "ends with a slash", "names a folder")
     assert list(tmp_path.iterdir()) == []
+
+
+def _dead_pid() -> int:
+    """A process id that no process has now (a child that has ended)."""
+    proc = subprocess.Popen([sys.executable, "-c", "pass"])
+    proc.wait()
+    return proc.pid
+
+
+def test_next_run_cleans_what_a_killed_run_left(tmp_path):
+    from cage.atomicfile import write_text
+    from cage.outputs import clean_stale, write_folder
+
+    pid = _dead_pid()
+    target = tmp_path / "plan"
+    write_folder(target, {"design.json": "{}\n"})
+    stale_new = tmp_path / f".plan.cage-new-{pid}-0a0b"
+    stale_new.mkdir()
+    (stale_new / "field.json").write_text("half")
+    write_folder(target, {"design.json": "{\"run\": 2}\n"})
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["plan"]
+    assert (target / "design.json").read_text() == "{\"run\": 2}\n"
+    # a kill between the two renames of the fallback swap: the next run puts the earlier folder back
+    aside = tmp_path / f".plan.cage-old-{pid}-0c0d"
+    os.rename(target, aside)
+    clean_stale(target)
+    assert (target / "design.json").read_text() == "{\"run\": 2}\n" and not aside.exists()
+    # a single file's temporary of a dead process goes at the next write of that file
+    (tmp_path / f".t.csv.{pid}-abc.tmp").write_text("half")
+    (tmp_path / f".t.csv.{os.getpid()}-abc.tmp").write_text("ours, running")
+    write_text(tmp_path / "t.csv", "x\n")
+    assert sorted(p.name for p in tmp_path.iterdir()) == [f".t.csv.{os.getpid()}-abc.tmp", "plan", "t.csv"]
