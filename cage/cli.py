@@ -1096,6 +1096,11 @@ def sequence(
         typer.echo(f"Wrote {plot}", err=out is None and kind != "table")
 
 
+from cage import cmd_tolerance as _cmd_tolerance  # noqa: E402
+
+_cmd_tolerance.register(app)
+
+
 # ----------------------------------------------------------------------------- entry point
 
 def main(argv: Optional[list[str]] = None) -> None:

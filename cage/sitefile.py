@@ -10,6 +10,7 @@ key suggested. Nothing here prints.
 """
 from __future__ import annotations
 
+import dataclasses
 import datetime as _dt
 import difflib
 import math
@@ -93,7 +94,9 @@ class CoilSettings:
 
 @dataclass(frozen=True)
 class Measured:
-    """A survey inside the room: the field at the cage centre in the cage frame (nT).
+    """A survey inside the room: the field at the cage centre in the cage frame (nT), and
+    optionally readings at several points (``points_m`` from the cage centre, m, and
+    ``fields_nT``, both cage frame) for the gradient over the test volume (``cage.gradient``).
 
     date: the day of the survey (``measured.date``). Older files without it take the site's
     ``date`` with ``date_assumed`` set (the user is warned); with neither, the file is refused.
@@ -101,6 +104,8 @@ class Measured:
 
     field_nT: tuple[float, float, float]
     note: str = ""
+    points_m: tuple[tuple[float, float, float], ...] = ()
+    fields_nT: tuple[tuple[float, float, float], ...] = ()
     date: _dt.date | None = None
     date_assumed: bool = False
 
@@ -140,8 +145,9 @@ _TABLE_KEYS = {
         "lead_length_m",
         "axis_order",
     ),
-    "supply": ("axis", "max_voltage_V", "max_current_A", "resolution_A", "bipolar", "name"),
-    "measured": ("field_nT", "note", "date"),
+    "supply": ("axis", "max_voltage_V", "max_current_A", "resolution_A", "bipolar", "name", "drive",
+               "temperature_coefficient_ppm_per_K", "drift_ppm_per_hour", "noise_ppm"),
+    "measured": ("field_nT", "note", "points_m", "fields_nT", "date"),
 }
 
 
@@ -375,15 +381,20 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
         measured = Measured(
             field_nT=r.triple(meas_t, "field_nT", "measured.", default=None, allow_scalar=False, hi=None),
             note=r.text(meas_t, "note", "measured.", default=""),
+            points_m=_read_rows(r, meas_t, "points_m"),
+            fields_nT=_read_rows(r, meas_t, "fields_nT"),
             date=parse_date(meas_t["date"], f"{where}: measured.date") if "date" in meas_t else None,
         )
+        if len(measured.points_m) != len(measured.fields_nT):
+            raise r.fail("measured.fields_nT", f"has {len(measured.fields_nT)} readings for "
+                                               f"{len(measured.points_m)} points_m")
         if math.sqrt(sum(v * v for v in measured.field_nT)) > 1e6:
             raise r.fail("measured.field_nT", "is above 1,000,000 nT (1 mT); is it in nT?")
         if measured.date is None:
             if not date_given:
                 raise r.fail("measured.date", "is missing: give the day of the survey (YYYY-MM-DD), so the "
                                               "field can be carried to other dates")
-            measured = Measured(measured.field_nT, measured.note, date, True)
+            measured = dataclasses.replace(measured, date=date, date_assumed=True)
 
     return Site(name=name, date=date, date_given=date_given, location=location, orientation=orientation,
                 room=room, requirement=requirement, coil=coil, supplies=supplies, measured=measured, source=where)
@@ -451,9 +462,23 @@ def _read_supplies(r: _Reader, value: Any) -> tuple[Supply, ...]:
             resolution_A=r.number(t, "resolution_A", p, default=0.001, positive=True, lo=0.0, hi=100.0),
             bipolar=bipolar,
             name=r.text(t, "name", p, default=""),
+            drive=r.text(t, "drive", p, default="current", choices=("current", "voltage")),
+            temperature_coefficient_ppm_per_K=r.number(t, "temperature_coefficient_ppm_per_K", p, default=100.0,
+                                                       nonnegative=True, lo=0.0, hi=1e5),
+            drift_ppm_per_hour=r.number(t, "drift_ppm_per_hour", p, default=10.0, nonnegative=True, lo=0.0, hi=1e5),
+            noise_ppm=r.number(t, "noise_ppm", p, default=50.0, nonnegative=True, lo=0.0, hi=1e5),
         )
         if supply.resolution_A > supply.max_current_A:
             raise r.fail(f"{p}resolution_A", f"({supply.resolution_A:g} A) is larger than max_current_A "
                                              f"({supply.max_current_A:g} A)")
         supplies.append(supply)
     return tuple(supplies)
+
+
+def _read_rows(r: _Reader, t: dict, key: str) -> tuple[tuple[float, float, float], ...]:
+    """An optional list of [x, y, z] rows (survey points or readings)."""
+    value = t.get(key, [])
+    if not isinstance(value, list) or not all(isinstance(v, list) and len(v) == 3 for v in value):
+        raise r.fail(f"measured.{key}", f"must be a list of [x, y, z] lists, got {_show(value)}")
+    return tuple(tuple(r.as_number(c, f"measured.{key}[{i}][{j}]") for j, c in enumerate(v))
+                 for i, v in enumerate(value))

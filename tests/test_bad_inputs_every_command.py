@@ -428,6 +428,28 @@ CASES = [
     Case("sequence: design without inductance",
          lambda c: ["sequence", c.design(lambda o: _ax(o, "y").pop("inductance_H")), G_SITE(c), "--series",
                     c.good.series], ("axes.y.inductance_H",)),
+    # ---------------------------------------------------------------- tolerance
+    Case("tolerance: negative --tilt-deg", lambda c: ["tolerance", G_DESIGN(c), G_SITE(c), "--tilt-deg", "-0.1"],
+         ("--tilt-deg",)),
+    Case("tolerance: --samples 1", lambda c: ["tolerance", G_DESIGN(c), G_SITE(c), "--samples", "1"], ("--samples",)),
+    Case("tolerance: --valid-until before the site's date",
+         lambda c: ["tolerance", G_DESIGN(c), G_SITE(c), "--valid-until", "2001-01-01"], ("--valid-until",)),
+    Case("tolerance: unknown supply drive",
+         lambda c: ["tolerance", G_DESIGN(c), c.site("[[supply]]\n", '[[supply]]\ndrive = "pwm"\n')],
+         ("bad.toml", "supply[0].drive", "pwm")),
+    Case("tolerance: survey readings do not match its points",
+         lambda c: ["tolerance", G_DESIGN(c), c.site(append='\n[measured]\nfield_nT = [1.0, 2.0, 3.0]\n'
+                                                            'points_m = [[0, 0, 0], [1, 0, 0]]\n'
+                                                            'fields_nT = [[1, 2, 3]]\n')],
+         ("bad.toml", "measured.fields_nT")),
+    Case("tolerance: survey points on one line",
+         lambda c: ["tolerance", G_DESIGN(c), c.site(append='\n[measured]\nfield_nT = [1.0, 2.0, 3.0]\n'
+                                                            'points_m = [[0, 0, 0], [1, 0, 0], [2, 0, 0]]\n'
+                                                            'fields_nT = [[1, 2, 3], [1, 2, 3], [1, 2, 3]]\n')],
+         ("bad.toml", "[measured]", "span")),
+    Case("tolerance: plot into a missing folder",
+         lambda c: ["tolerance", G_DESIGN(c), G_SITE(c), "--samples", "20", "--spec-samples", "20", "--seed", "1",
+                    "--plot", c.out("/nonexistent/dir/t.png")], ("/nonexistent/dir/t.png", "does not exist")),
 ]
 
 
