@@ -7,6 +7,7 @@ A failed run never leaves a half-written file behind; the temporary file names i
 from __future__ import annotations
 
 import os
+import stat
 import tempfile
 from pathlib import Path
 
@@ -21,6 +22,7 @@ def write_bytes(path: str | os.PathLike, data: bytes) -> Path:
         raise InputError(f"{target}: output folder {folder} does not exist")
     if target.is_dir():
         raise InputError(f"{target}: is a folder, not a file")
+    _refuse_special(target)
     _clean_stale(target, folder)
     try:
         fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.{os.getpid()}-", suffix=".tmp", dir=folder)
@@ -56,6 +58,21 @@ def _clean_stale(target: Path, folder: Path) -> None:
                 os.unlink(folder / name)
             except OSError:
                 pass
+
+
+def _refuse_special(target: Path) -> None:
+    """Refuse a target that exists and is not a regular file (device, FIFO, socket).
+
+    The rename that makes a write atomic would replace such a node with a plain file
+    (``--out /dev/null`` run as root would turn the null device into a file), so it is
+    never done: the user names a file path instead.
+    """
+    try:
+        mode = os.stat(target).st_mode
+    except OSError:
+        return
+    if not stat.S_ISREG(mode):
+        raise InputError(f"{target}: is not a regular file (a device, pipe or socket); give a file path")
 
 
 def write_text(path: str | os.PathLike, text: str) -> Path:

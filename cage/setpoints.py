@@ -96,6 +96,11 @@ def design_coupling_nT_per_A(design, point_m=(0.0, 0.0, 0.0)) -> np.ndarray:
     """3x3 coupling of a design at a point (cage frame), nT per ampere; column j = axis j."""
     from cage.uniformity import coupling_T_per_A
 
+    if not design.all_pairs:
+        from cage.coilaxis import axis_field_T
+
+        p = np.asarray(point_m, dtype=float)
+        return 1e9 * np.column_stack([axis_field_T(a.coil_axis, 1.0, p) for a in design.axes])
     return 1e9 * np.asarray(coupling_T_per_A(design.cage, point_m), dtype=float)
 
 
@@ -127,9 +132,9 @@ def _axis_drive(axis_design, supply: Supply, current: float, setpoint: float, er
     ok = True
     a = axis_design
     if a.wire is not None and a.frame_width_m is not None and a.frame_depth_m is not None:
-        from cage.electrical import axis_electrics
+        from cage.electrical import electrics_of
 
-        el = axis_electrics(a.pair, a.wire, setpoint,
+        el = electrics_of(a.pair or a.coil_axis, a.wire, setpoint,
                             lead_length_m=a.lead_length_m if a.lead_length_m is not None else 0.0,
                             frame_width_m=a.frame_width_m, frame_depth_m=a.frame_depth_m,
                             ambient_temperature_C=ambient_temperature_C)
@@ -294,14 +299,16 @@ def reuse_warnings(design, supplies, room=None) -> list[str]:
     """Warnings when a design is used with another site's room or supplies."""
     out = []
     if room is not None:
-        from cage.layout import FrameSpec, envelope_m, room_inner_m
+        from cage.layout import FrameSpec, room_inner_m
 
         inner = room_inner_m(room)
         # The envelope from the pairs themselves (frames as recorded, else none), and the
         # recorded one if larger: an edited design file cannot hide its size.
         width = max((a.frame_width_m or 0.0) for a in design.axes)
         depth = max((a.frame_depth_m or 0.0) for a in design.axes)
-        env = envelope_m(design.cage, FrameSpec(width, depth, 0.0))
+        from cage.coillayout import design_envelope_m
+
+        env = design_envelope_m(design, FrameSpec(width, depth, 0.0))
         recorded = np.asarray(design.envelope_m if design.envelope_m is not None else [], dtype=float)
         if recorded.shape == (3,):
             env = np.maximum(env, recorded)
