@@ -1024,8 +1024,8 @@ def sequence(
     design_obj = _load_checked_design(design_file)
     site = sitefile.load_site(site_file)
     kind = _infer_format(fmt, out)
-    _check_out(out, design_file, site_file, series, calibration)
-    _check_out(plot, design_file, site_file, series, calibration)
+    _check_out(out, design_file, site_file, series, orbit, calibration)
+    _check_out(plot, design_file, site_file, series, orbit, calibration)
     ctx = _setpoint_context(design_obj, site, calibration)
     from cage.frames import ned_to_cage
 
