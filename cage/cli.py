@@ -93,6 +93,7 @@ def _resolve_site(site_file: Optional[Path], lat: Optional[float], lon: Optional
         orientation = sitefile.Orientation(
             heading_deg=sitefile.check_heading(0.0 if heading_deg is None else heading_deg, "command line"),
             heading_reference="magnetic" if heading_magnetic else "true",
+            stated=heading_deg is not None or heading_magnetic,
         )
         return sitefile.Site(
             name=_place_name(location.latitude_deg, location.longitude_deg), date=when, date_given=date is not None,
@@ -135,7 +136,7 @@ MagneticOpt = typer.Option(False, "--heading-magnetic", help="The heading is fro
 
 # ----------------------------------------------------------------------------- field
 
-def field_summary(site, amb) -> dict:
+def field_summary(site, amb, design_identity: str = "") -> dict:
     """The JSON object of ``cage field``."""
     e = amb.earth
     sv_cage = amb.sv_cage_nT_per_year
@@ -167,7 +168,16 @@ def field_summary(site, amb) -> dict:
         out["measured_cage_frame_nT"] = dict(zip("xyz", amb.measured_cage_nT))
         out["local_share_cage_nT"] = dict(zip("xyz", (float(v) for v in amb.local_share_cage_nT)))
         out["measured_note"] = amb.measured_note
+    out["provenance"] = _field_provenance(site, amb, design_identity).as_dict()
     return out
+
+
+def _field_provenance(site, amb, design_identity: str = "", warnings=()):
+    from cage.provenance import make_provenance
+
+    derived = {"site_file": "" if site.source == "command line" else site.source, "design": design_identity,
+               "survey": site.measured.date.isoformat() if site.measured is not None else ""}
+    return make_provenance(site, amb, derived_from=derived, warnings=tuple(amb.warnings) + tuple(warnings))
 
 
 def field_table(site, amb) -> str:
@@ -224,7 +234,8 @@ def field(
 
     site = _resolve_site(site_file, lat, lon, alt_m, date, heading_deg, heading_magnetic)
     amb = site_ambient(site)
-    _warn(amb.earth.warning)
+    for w in amb.warnings:
+        _warn(w)
     if as_json:
         typer.echo(_dump_json(field_summary(site, amb)), nl=False)
     else:
@@ -249,7 +260,8 @@ def _plan_from_site(site, shape, minimise, spacing, max_field_step_nT):
     if site.room is None:
         raise InputError(f"{site.source}: no [room] table; the planner needs the room the cage must fit")
     amb = site_ambient(site)
-    _warn(amb.earth.warning)
+    for w in amb.warnings:
+        _warn(w)
     inp = plan_inputs_from_site(site, amb.in_force_cage_nT, shape=shape, minimise=minimise, spacing=spacing,
                                 max_field_step_nT=max_field_step_nT)
     return amb, inp, plan_cage(inp)
@@ -326,6 +338,20 @@ def _field_slew_uT_per_s(axis_plan) -> float:
                                axis_plan.field_per_amp_nT) / 1000.0
 
 
+def _stamped_design(design_obj, site, amb, warnings):
+    """The design with its provenance: it fixes the cage's true azimuth (cage.provenance)."""
+    from cage.provenance import design_id, stamp_design
+
+    return stamp_design(design_obj, _field_provenance(site, amb, design_id(design_obj), warnings))
+
+
+def _check_out(out, *inputs) -> None:
+    """--out must not name one of the command's own inputs (cage.outputs)."""
+    from cage.outputs import refuse_overwriting_inputs
+
+    refuse_overwriting_inputs(out, [p for p in inputs if p is not None])
+
+
 def _design_cautions(plan, inp) -> list[str]:
     out = list(plan.warnings)
     if any(a.electrics.winding_temperature_C > 50.0 for a in plan.axes):
@@ -353,10 +379,12 @@ def design(
     from cage.optimise import design_from_plan
 
     site = sitefile.load_site(site_file)
+    _check_out(out, site_file)
     amb, inp, plan = _plan_from_site(site, shape, minimise, spacing, max_field_step_nT)
-    design_obj = design_from_plan(plan, inp, site, amb)
+    design_obj = _stamped_design(design_from_plan(plan, inp, site, amb), site, amb, _design_cautions(plan, inp))
     save_design(out, design_obj)
-    _say(f"Design for {site.name} ({amb.source} field, {amb.earth.date.isoformat()})")
+    _say(f"Design for {site.name} ({amb.source} field, {amb.earth.date.isoformat()}); "
+         f"cage +x at {design_obj.site['heading_note']}")
     _say(design_table(plan, inp, _packs_of(design_obj)))
     for line in _design_cautions(plan, inp):
         _warn(line)
@@ -381,11 +409,13 @@ def compare(
     from cage.optimise import plan_inputs_from_site
 
     site = sitefile.load_site(site_file)
+    _check_out(plot, site_file)
     values = parse_sizes(sizes)
     if site.room is None:
         raise InputError(f"{site.source}: no [room] table; compare needs the room the cage must fit")
     amb = site_ambient(site)
-    _warn(amb.earth.warning)
+    for w in amb.warnings:
+        _warn(w)
     inp = plan_inputs_from_site(site, amb.in_force_cage_nT, shape=shape, minimise=minimise)
     if sys.stderr.isatty() and not as_json:
         with typer.progressbar(length=len(values), label="sizes", file=sys.stderr) as bar:
@@ -486,16 +516,21 @@ class _Context:
     ambient_nT: object
     source: str
     warnings: tuple
+    provenance: object = None
 
 
-def _setpoint_context(design, site, calibration_file=None) -> _Context:
+def _setpoint_context(design, site, calibration_file=None, heading_explicit: bool = False) -> _Context:
     """Supplies, temperatures, field in force and warnings for a design used at a site."""
     from cage.ambient import site_ambient
+    from cage.provenance import design_id, make_provenance
     from cage.setpoints import reuse_warnings
     from cage.supplies import supply_for_axis, validate_supply
 
+    from cage.reuse import calibration_ambient, site_for_design
+
+    site, heading_note, warnings = site_for_design(design, site, heading_explicit)
     amb = site_ambient(site)
-    warnings = [amb.earth.warning] if amb.earth.warning else []
+    warnings = list(amb.warnings) + warnings
     if site.supplies:
         for i, s in enumerate(site.supplies):
             validate_supply(s, f"{site.source}: supply[{i}] (axis {s.axis})")
@@ -517,13 +552,19 @@ def _setpoint_context(design, site, calibration_file=None) -> _Context:
         ambient_C = _number_or(req.get("ambient_temperature_C"), 22.0)
         max_C = _number_or(req.get("max_winding_temperature_C"), None)
     coupling, ambient_nT, source = None, amb.in_force_cage_nT, amb.source
+    identity = design_id(design)
+    derived = {"design": identity, "site_file": "" if site.source == "command line" else site.source,
+               "survey": site.measured.date.isoformat() if site.measured is not None else ""}
     if calibration_file is not None:
-        from cage.calibrationfile import load_calibration
+        from cage.calibrationfile import load_calibration_record
 
-        fit = load_calibration(calibration_file)
-        coupling, ambient_nT, source = fit.coupling_nT_per_A, fit.offset_nT, "calibration"
+        coupling, ambient_nT, source, notes = calibration_ambient(
+            load_calibration_record(calibration_file), str(calibration_file), identity, site, amb)
+        warnings += notes
+        derived["calibration"] = str(calibration_file)
     warnings += reuse_warnings(design, supplies, site.room)
-    return _Context(amb, supplies, extra_nT, ambient_C, max_C, coupling, ambient_nT, source, tuple(warnings))
+    prov = make_provenance(site, amb, derived_from=derived, heading_note=heading_note)
+    return _Context(amb, supplies, extra_nT, ambient_C, max_C, coupling, ambient_nT, source, tuple(warnings), prov)
 
 
 def _number_or(value, default):
@@ -539,7 +580,7 @@ def _table(design, site, ctx: _Context, targets):
 
     return setpoint_table(design, ctx.ambient_nT, ctx.supplies, targets, site=site.name, date=site.date,
                           source=ctx.source, coupling_nT_per_A=ctx.coupling, ambient_temperature_C=ctx.ambient_C,
-                          max_winding_temperature_C=ctx.max_C, warnings=ctx.warnings)
+                          max_winding_temperature_C=ctx.max_C, warnings=ctx.warnings, provenance=ctx.provenance)
 
 
 def _flag_rows(table, limit: int = 10):
@@ -552,14 +593,14 @@ def _flag_rows(table, limit: int = 10):
         f"{len(bad)} rows outside the supplies' limits (flagged, not clipped): {', '.join(bad[:limit])}{more}",))
 
 
-def build_setpoints(design, site, *, targets_file=None, calibration_file=None):
+def build_setpoints(design, site, *, targets_file=None, calibration_file=None, heading_explicit=False):
     """The standard and user rows of a design at a site (model, survey, or calibration)."""
     import numpy as np
 
     from cage.frames import ned_to_cage
     from cage.setpoints import standard_targets
 
-    ctx = _setpoint_context(design, site, calibration_file)
+    ctx = _setpoint_context(design, site, calibration_file, heading_explicit)
     targets = standard_targets(ctx.extra_nT)
     if targets_file is not None:
         from cage.targetfile import read_targets_csv
@@ -653,7 +694,15 @@ def setpoints(
     old = load_table_json(previous) if previous is not None else None
     if not (drift_threshold_nT > 0 and drift_threshold_nT < 1e6):
         raise InputError(f"--drift-threshold-nT must be a positive number of nT, got {drift_threshold_nT:g}")
-    amb, table = build_setpoints(design_obj, site, targets_file=targets, calibration_file=calibration)
+    _check_out(out, design_file, site_file, targets, previous, calibration)
+    amb, table = build_setpoints(design_obj, site, targets_file=targets, calibration_file=calibration,
+                                 heading_explicit=heading_deg is not None or heading_magnetic)
+    if old is not None:
+        from cage.reuse import previous_problems
+        from cage.setpoints import table_to_dict
+
+        table = dataclasses.replace(table, warnings=table.warnings + tuple(
+            previous_problems(old, table_to_dict(table), f"--previous {previous}")))
     for w in table.warnings:
         _warn(w)
     text = setpoints_text(table) + "\n" if kind == "table" else render(table, kind)
@@ -715,23 +764,42 @@ def make_figures(design_obj, design_doc: dict, setpoints_doc: Optional[dict]) ->
     return {name: plots.png_bytes(fig) for name, fig in figs.items()}
 
 
-def write_report(folder: Path, field_doc, design_doc, setpoints_doc, pngs: dict) -> Path:
-    from cage.atomicfile import write_bytes, write_text
+def report_html(field_doc, design_doc, setpoints_doc, pngs: dict, build_doc=None, build_pngs=None) -> str:
+    """The stand-alone report.html text, with the provenance of its documents as notes."""
     from cage.report import build_report
 
-    from cage.cmd_build import bom_csv, report_build
-
-    sheet, build_doc, build_pngs = report_build(design_doc)
-    for name, data in {**pngs, **build_pngs}.items():
-        write_bytes(folder / name, data)
-    write_text(folder / "build.csv", bom_csv(sheet))
     title = "Coil cage report"
     if isinstance(field_doc, dict) and field_doc.get("site"):
         title += f": {field_doc['site']}"
-    html = build_report(field=field_doc, design=design_doc, setpoints=setpoints_doc,
-                        figures={FIGURES[name]: data for name, data in pngs.items()}, title=title,
+    notes = []
+    for name, doc in (("field", field_doc), ("design", design_doc), ("setpoints", setpoints_doc)):
+        prov = doc.get("provenance") if isinstance(doc, dict) else None
+        if isinstance(prov, dict):
+            from cage.provenance import header_lines
+
+            notes += [f"{name}: {line}" for line in header_lines(prov, prefix="")]
+    return build_report(field=field_doc, design=design_doc, setpoints=setpoints_doc,
+                        figures={FIGURES[name]: data for name, data in pngs.items()}, title=title, notes=notes,
                         build=build_doc, build_figures=build_pngs)
-    return write_text(folder / "report.html", html)
+
+
+def report_files(field_doc, design_doc, setpoints_doc, pngs: dict) -> dict:
+    """The report's files (name -> bytes or text): figures, build sheet CSV and figures, report.html."""
+    from cage.cmd_build import bom_csv, report_build
+
+    sheet, build_doc, build_pngs = report_build(design_doc)
+    html = report_html(field_doc, design_doc, setpoints_doc, pngs, build_doc, build_pngs)
+    return {**pngs, **build_pngs, "build.csv": bom_csv(sheet), "report.html": html}
+
+
+def write_report(folder: Path, field_doc, design_doc, setpoints_doc, pngs: dict) -> Path:
+    from cage.atomicfile import write_bytes, write_text
+
+    files = report_files(field_doc, design_doc, setpoints_doc, pngs)
+    for name, data in files.items():
+        if name != "report.html":
+            (write_text if isinstance(data, str) else write_bytes)(folder / name, data)
+    return write_text(folder / "report.html", files["report.html"])
 
 
 def _read_json(path: Path, what: str) -> Optional[dict]:
@@ -759,6 +827,15 @@ def report(
     setpoints_doc = _read_json(folder / "setpoints.json", "a setpoints table")
     if setpoints_doc is not None and setpoints_doc.get("format") != "cage-setpoints":
         raise InputError(f"{folder / 'setpoints.json'}: not a cage-setpoints file")
+    from cage.provenance import design_id
+    from cage.reuse import mixed_inputs
+
+    docs = {"design.json": {"provenance": {**(design_doc.get("provenance") or {}),
+                                           "derived_from": {"design": design_id(design_obj)}}},
+            "field.json": field_doc, "setpoints.json": setpoints_doc}
+    problem = mixed_inputs(docs)
+    if problem:
+        raise InputError(f"{folder}: the files are from different runs: {problem}; run cage plan again")
     pngs = make_figures(design_obj, design_doc, setpoints_doc)
     path = write_report(folder, field_doc, design_doc, setpoints_doc, pngs)
     _say(f"Wrote {path}, build.csv, connection_x/y/z.png and {', '.join(pngs)}")
@@ -780,36 +857,32 @@ def plan(
 ):
     """The main job: field, design, setpoints (CSV, JSON, SCPI), figures and report, into one folder."""
     from cage import sitefile
-    from cage.ambient import site_ambient
-    from cage.atomicfile import write_text
     from cage.designfile import design_to_json
     from cage.optimise import design_from_plan
     from cage.setpointfile import render
 
     site = sitefile.load_site(site_file)
-    if out.exists() and not out.is_dir():
-        raise InputError(f"{out}: exists and is not a folder")
+    from cage.outputs import check_replaceable, refuse_overwriting_inputs, write_folder
+
+    refuse_overwriting_inputs(out, [p for p in (site_file, targets) if p is not None], folder=True)
+    check_replaceable(out, ())
     amb, inp, plan_obj = _plan_from_site(site, shape, minimise, "flat", None)
-    design_obj = design_from_plan(plan_obj, inp, site, amb)
+    design_obj = _stamped_design(design_from_plan(plan_obj, inp, site, amb), site, amb,
+                                 _design_cautions(plan_obj, inp))
     _, table = build_setpoints(design_obj, site, targets_file=targets)
     texts = {
-        "field.json": _dump_json(field_summary(site, site_ambient(site))),
+        "field.json": _dump_json(field_summary(site, amb, design_obj.provenance["derived_from"]["design"])),
         "design.json": design_to_json(design_obj),
         "setpoints.csv": render(table, "csv"),
         "setpoints.json": render(table, "json"),
         "setpoints.scpi": render(table, "scpi"),
     }
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise InputError(f"{out}: cannot make the folder ({exc.strerror})") from None
-    for name, text in texts.items():
-        write_text(out / name, text)
     design_doc = json.loads(texts["design.json"])
     setpoints_doc = json.loads(texts["setpoints.json"])
     pngs = make_figures(design_obj, design_doc, setpoints_doc)
-    write_report(out, json.loads(texts["field.json"]), design_doc, setpoints_doc, pngs)
-    _say(f"Plan for {site.name} ({amb.source} field, {amb.earth.date.isoformat()}) in {out}/")
+    write_folder(out, {**texts, **report_files(json.loads(texts["field.json"]), design_doc, setpoints_doc, pngs)})
+    _say(f"Plan for {site.name} ({amb.source} field, {amb.earth.date.isoformat()}) in {out}/; "
+         f"cage +x at {design_obj.site['heading_note']}")
     _say(design_table(plan_obj, inp, _packs_of(design_obj)))
     _say("")
     _say(setpoints_text(table))
@@ -858,11 +931,15 @@ def calibrate(
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of a table."),
     out: Optional[Path] = typer.Option(None, "--out", help="Calibration file to write (JSON), or with --suggest "
                                                           "the current set (CSV)."),
+    site_file: Optional[Path] = typer.Option(None, "--site", help="Site file of the readings (default: the "
+                                                                 "design's site)."),
+    date: Optional[str] = typer.Option(None, "--date", help="Day of the readings YYYY-MM-DD (default today UTC)."),
 ):
     """Fit the built cage from magnetometer readings: offset, coupling, corrected null currents."""
     from cage.atomicfile import write_text
     from cage.setpoints import design_coupling_nT_per_A
 
+    _check_out(out, design_file, data_file, site_file)
     design_obj = _load_checked_design(design_file)
     if suggest:
         from cage import sitefile
@@ -897,13 +974,52 @@ def calibrate(
     check = build_check(fit, design_coupling_nT_per_A(design_obj))
     summary = calibration_summary(fit, check, readings.line_numbers)
     if out is not None:
-        save_calibration(out, fit, source_file=str(data_file), design=str(design_file))
+        prov = _calibration_provenance(design_obj, site_file, date, data_file)
+        save_calibration(out, fit, source_file=str(data_file), design=str(design_file), provenance=prov.as_dict())
+        for w in prov.warnings:
+            _warn(w)
     if as_json:
         typer.echo(_dump_json(summary), nl=False)
     else:
         _say(calibration_text(summary))
         if out is not None:
             _say(f"Wrote {out}; use it with: cage setpoints {design_file} SITE.toml --calibration {out}")
+
+
+def _calibration_provenance(design_obj, site_file, date, data_file):
+    """Where and when a calibration's offset holds: the readings' site and day, the design's azimuth."""
+    from cage import sitefile
+
+    if site_file is not None:
+        site = sitefile.load_site(site_file)
+    else:
+        rec = design_obj.site or {}
+        try:
+            location = sitefile.check_location(rec["latitude_deg"], rec["longitude_deg"], rec.get("altitude_m", 0.0),
+                                               "design file: site")
+        except (KeyError, TypeError):
+            raise InputError("the design records no site position; give --site SITE.toml for the readings") from None
+        site = sitefile.Site(name=str(rec.get("name", "")), date=sitefile.today_utc(), date_given=False,
+                             location=location, orientation=sitefile.Orientation(stated=False), room=None,
+                             requirement=sitefile.Requirement(), coil=sitefile.CoilSettings(), supplies=(),
+                             measured=None, source=str(rec.get("file", "design file")))
+    warnings = []
+    if date is not None:
+        site = dataclasses.replace(site, date=sitefile.parse_date(date, "--date"))
+    else:
+        site = dataclasses.replace(site, date=sitefile.today_utc())
+        warnings.append(f"the calibration is dated today ({site.date.isoformat()}); give --date for the day of "
+                        f"the readings")
+    from cage.reuse import site_for_design
+
+    site, heading_note, more = site_for_design(design_obj, site, False)
+    from cage.ambient import site_ambient
+    from cage.provenance import design_id, make_provenance
+
+    site = dataclasses.replace(site, measured=None)
+    amb = site_ambient(site)
+    return make_provenance(site, amb, derived_from={"design": design_id(design_obj), "readings": str(data_file)},
+                           warnings=tuple(amb.warnings) + tuple(more) + tuple(warnings), heading_note=heading_note)
 
 
 # ----------------------------------------------------------------------------- sequence
@@ -963,6 +1079,8 @@ def sequence(
     design_obj = _load_checked_design(design_file)
     site = sitefile.load_site(site_file)
     kind = _infer_format(fmt, out)
+    _check_out(out, design_file, site_file, series, orbit, calibration)
+    _check_out(plot, design_file, site_file, series, orbit, calibration)
     ctx = _setpoint_context(design_obj, site, calibration)
     from cage.frames import ned_to_cage
 
@@ -1069,6 +1187,11 @@ _cmd_orbit.register(app)
 def main(argv: Optional[list[str]] = None) -> None:
     """Run the command line; user errors end in one line on stderr and a non-zero exit."""
     try:
+        from cage.outputs import trailing_slash_problem
+
+        problem = trailing_slash_problem(sys.argv[1:] if argv is None else argv)
+        if problem:
+            raise InputError(problem)
         app(args=argv, prog_name="cage")
     except CageError as exc:
         typer.echo(f"cage: {exc}", err=True)

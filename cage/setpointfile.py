@@ -1,6 +1,6 @@
 """Writers (and one reader) for current tables: CSV, JSON and a SCPI script.
 
-CSV: one row per table row, units in every column name, rounded for people (nT to 0.1,
+CSV: provenance as ``#`` comment lines (cage.provenance), then one row per table row, units in every column name, rounded for people (nT to 0.1,
 currents to the supply's resolution, V to 0.001, W to 0.01). JSON (``cage-setpoints``,
 version 1) keeps full precision. SCPI: plain text, one block per row, standard SCPI
 commands for a power-supply channel (``INST:NSEL``, ``VOLT``, ``CURR``, ``OUTP``); x, y and
@@ -49,8 +49,17 @@ def csv_header() -> list[str]:
     return cols + ["total_power_W", "field_error_nT", "within_limits", "problems"]
 
 
+def _provenance_comments(table: SetpointTable) -> str:
+    """The table's provenance as ``#`` comment lines (cage.provenance), or ''."""
+    from cage.provenance import header_lines
+
+    prov = table.provenance_record()
+    return "" if prov is None else "\n".join(header_lines(prov)) + "\n"
+
+
 def table_to_csv(table: SetpointTable) -> str:
     buf = io.StringIO()
+    buf.write(_provenance_comments(table))
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(csv_header())
     for r in table.rows:
@@ -84,6 +93,7 @@ def table_to_scpi(table: SetpointTable) -> str:
         "# Channels: x = 1, y = 2, z = 3. Each block sets the voltage limit, then the current, then output on.",
         "# Ramp between rows; switch polarity only at zero current. Rows outside limits are commented out.",
     ]
+    lines += _provenance_comments(table).splitlines()
     for r in table.rows:
         target = ", ".join(f"{a} {v:.1f} nT" for a, v in zip(AXES, r.target_cage_nT))
         lines.append("")

@@ -85,6 +85,11 @@ class SetpointTable:
     supplies: tuple[Supply, Supply, Supply]
     rows: tuple[SetpointRow, ...]
     warnings: tuple[str, ...] = ()
+    provenance: object = None  # cage.provenance.Provenance, its warnings completed when written
+
+    def provenance_record(self):
+        """The provenance with every warning of the table, or None."""
+        return None if self.provenance is None else self.provenance.with_warnings(self.warnings)
 
 
 def design_coupling_nT_per_A(design, point_m=(0.0, 0.0, 0.0)) -> np.ndarray:
@@ -161,7 +166,7 @@ def _axis_drive(axis_design, supply: Supply, current: float, setpoint: float, er
 
 def setpoint_table(design, ambient_cage_nT, supplies, targets, *, site: str = "", date=None, source: str = "",
                    coupling_nT_per_A=None, ambient_temperature_C: float = 22.0,
-                   max_winding_temperature_C: float | None = None, warnings=()) -> SetpointTable:
+                   max_winding_temperature_C: float | None = None, warnings=(), provenance=None) -> SetpointTable:
     """The current table for ``targets`` (a list of (label, target_cage_nT (3,))).
 
     coupling_nT_per_A: defaults to the design's, at the centre. supplies: one per axis x, y, z.
@@ -182,7 +187,7 @@ def setpoint_table(design, ambient_cage_nT, supplies, targets, *, site: str = ""
                                 rounding_error_nT=float(np.linalg.norm(k @ delta))))
     return SetpointTable(site=site, date=date, source=source, ambient_cage_nT=tuple(float(v) for v in ambient),
                          coupling_nT_per_A=tuple(tuple(float(v) for v in r) for r in k),
-                         supplies=tuple(supplies), rows=tuple(rows), warnings=tuple(warnings))
+                         supplies=tuple(supplies), rows=tuple(rows), warnings=tuple(warnings), provenance=provenance)
 
 
 def table_to_dict(table: SetpointTable) -> dict:
@@ -222,6 +227,7 @@ def table_to_dict(table: SetpointTable) -> dict:
                           for ax, s in zip(AXES, table.supplies)},
         "rows": rows,
         "warnings": list(table.warnings),
+        **({} if table.provenance is None else {"provenance": table.provenance_record().as_dict()}),
     }
 
 

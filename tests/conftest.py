@@ -56,3 +56,11 @@ def assert_one_line_error(run: Run, *fragments: str, code: int = 2) -> None:
     assert len(lines) == 1, run
     for fragment in fragments:
         assert fragment in lines[0], (fragment, lines[0])
+
+
+def csv_body(text: str) -> str:
+    """A CSV file's text without its leading ``#`` provenance comment lines (cage.provenance)."""
+    lines = text.splitlines(keepends=True)
+    while lines and lines[0].startswith("#"):
+        lines.pop(0)
+    return "".join(lines)
