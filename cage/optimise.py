@@ -7,7 +7,9 @@ electrical model, no Taylor estimates):
    optimum (or, with ``spacing="free"``, the spacing that minimises the deviation at each
    size), the largest relative deviation over the test box falls as the pair grows, so the
    smallest size meeting the tolerance is found by bisection on the exact field.
-2. Nesting: for each order of the axes (outermost first) and each allowed shape per axis,
+2. Nesting: for each order of the axes (outermost first; only the site's ``axis_order`` when
+   given, and then each pair is at least as wide as every pair inside it) and each allowed
+   shape per axis,
    the innermost pair takes its smallest uniform size; each pair further out takes the
    smallest size that is both uniform and clears the frames of the pairs inside it
    (``cage.layout``). A smaller cage needs less power and copper for the same field, so the
@@ -17,13 +19,16 @@ electrical model, no Taylor estimates):
    (``INFLATIONS``), and every variant competes on the objective.
 3. Windings: per axis, the field needed is |ambient component| + extra field. For each allowed
    wire, the turns range from the fewest that reach the field within the supply's current, to
-   the most that fit the frame channel, and no more than keep the full-range current at or
-   above half the supply's maximum (so the supply's current step gives a field step within a
-   factor two of the best it can) -- or, with ``max_field_step_nT``, no more than keep the
-   field step under that. Voltage at operating temperature and winding temperature fall as
-   turns rise (the same ampere-turns through more copper), so the feasible turns are an
-   interval found by bisection. Power at full range is least at the most turns; copper mass
-   at the fewest.
+   the most that fit the frame channel -- and, only when the user asks for a largest field
+   step (``max_field_step_nT``), no more than keep the field step under it. Voltage at
+   operating temperature and winding temperature fall as turns rise (the same ampere-turns
+   through more copper), so the feasible turns are an interval found by bisection. Power at
+   full range is least at the most turns; copper mass at the fewest. A larger supply only
+   widens the interval, so it never gives a design with more power. The field step that
+   results is reported, and the design notes a supply much larger than the axis needs.
+   Sizes and turns are searched jointly: where the step limit caps the turns, each pair is
+   also tried at the larger sizes where one more turn is allowed, while that turn pays
+   (``axis_size_options``).
 4. Objective over all candidates: least total power at full range (default), least copper
    mass, or least envelope volume ("size"); ties go to the smaller envelope, then the order
    of enumeration, so the same site always gives the same design.
@@ -47,7 +52,7 @@ from cage.supplies import DriveCheck, Supply, check_drive, field_step_nT, supply
 
 OBJECTIVES = ("power", "mass", "size")
 SPACINGS = ("flat", "free")
-MIN_CURRENT_FRACTION = 0.5
+LARGE_SUPPLY_FRACTION = 0.25  # full range below this share of the supply's current: say so
 UNIFORMITY_GRID = 9
 SIZE_PRECISION = 2e-4  # relative, bisection on the uniform size
 MAX_SIZE_M = 50.0
@@ -117,7 +122,8 @@ class Plan:
     total_power_W: float
     copper_mass_kg: float
     warnings: tuple[str, ...] = field(default_factory=tuple)
-    packs: tuple = ()  # cage.coils.PackDifference per axis: the real winding pack against one filament
+    packs: tuple = ()
+    notes: tuple[str, ...] = ()  # plain statements for the summary (order given, supply larger than needed)  # cage.coils.PackDifference per axis: the real winding pack against one filament
 
     @property
     def cage(self) -> CoilCage:
@@ -160,6 +166,8 @@ def plan_inputs_from_site(site, ambient_cage_nT, *, shape: str | None = None, mi
             raise InputError(f"{where}: coil.wires: {exc}") from None
     if max_field_step_nT is not None and not (math.isfinite(max_field_step_nT) and max_field_step_nT > 0):
         raise InputError(f"--max-field-step-nT must be a positive number, got {max_field_step_nT!r}")
+    if max_field_step_nT is None:
+        max_field_step_nT = getattr(req, "max_field_step_nT", None)
     coil = site.coil
     return PlanInputs(
         test_volume_m=tuple(req.test_volume_m),
@@ -267,11 +275,31 @@ class _WindingResult:
     badness: float  # how far the closest try missed (1 = at the limit)
 
 
-def _field_per_amp_per_turn_T(pair: CoilPair) -> float:
-    from cage.coils import pair_field_T
+def centre_field_per_ampere_turn_T(shape: str, size_m: float, spacing_m: float) -> float:
+    """Axial field at the centre of a pair (T per ampere-turn of each coil), closed form.
 
-    one = CoilPair(pair.axis, pair.shape, pair.size_m, pair.spacing_m, 1)
-    return float(pair_field_T(one, 1.0, np.zeros((1, 3)))[0, AXES.index(pair.axis)])
+    Round loop of radius R at axial distance z: B = mu0 R^2 / (2 (R^2 + z^2)^(3/2)) per
+    ampere (Jackson, Classical Electrodynamics, 3rd ed., section 5.5). Square loop of half
+    side h at axial distance z: B = 2 mu0 h^2 / (pi (h^2 + z^2) sqrt(2 h^2 + z^2)) per ampere
+    (Biot-Savart of four straight sides; e.g. Misakian, J. Res. NIST 105, 557 (2000)). A pair:
+    twice that at z = spacing / 2.
+    """
+    mu0 = 4e-7 * math.pi
+    z = spacing_m / 2.0
+    if shape == "round":
+        r2 = size_m * size_m
+        return 2.0 * mu0 * r2 / (2.0 * (r2 + z * z) ** 1.5)
+    h2 = (size_m / 2.0) ** 2
+    return 2.0 * 2.0 * mu0 * h2 / (math.pi * (h2 + z * z) * math.sqrt(2.0 * h2 + z * z))
+
+
+def _field_per_amp_per_turn_T(pair: CoilPair) -> float:
+    return centre_field_per_ampere_turn_T(pair.shape, pair.size_m, pair.spacing_m)
+
+
+def _turns_for_step(max_step_nT: float, k1_T: float, resolution_A: float) -> int:
+    """Most turns per coil that keep the field step (supply step x field per ampere) under max_step_nT."""
+    return math.floor(max_step_nT * 1e-9 / (k1_T * resolution_A) * (1 + 1e-12))
 
 
 def _wire_label(inp: PlanInputs) -> str:
@@ -290,33 +318,33 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
     k1 = _field_per_amp_per_turn_T(geometry)
     best: AxisPlan | None = None
     best_key = None
-    closest = (math.inf, "")
+    closest: tuple[float, str] | None = None
+
+    def miss(badness: float, text: str) -> None:
+        nonlocal closest
+        if closest is None or badness < closest[0]:
+            closest = (badness, text)
 
     for wire in inp.wires:
         n_fit = max_turns(wire, inp.frame.width_m, inp.frame.depth_m)
         n_cur = max(1, math.ceil(need_T / (k1 * supply.max_current_A) - 1e-9))
+        n_hi = n_fit
         if inp.max_field_step_nT is not None:
-            n_res = math.floor(inp.max_field_step_nT * 1e-9 / (k1 * supply.resolution_A))
-            res_text = f"keep the field step under {inp.max_field_step_nT:g} nT"
-        else:
-            n_res = math.floor(need_T / (k1 * MIN_CURRENT_FRACTION * supply.max_current_A))
-            res_text = f"keep the full-range current above {MIN_CURRENT_FRACTION:.0%} of the supply's"
-        n_hi = min(n_fit, n_res)
+            n_res = _turns_for_step(inp.max_field_step_nT, k1, supply.resolution_A)
+            n_hi = min(n_fit, n_res)
         if n_cur > n_fit:
-            badness = n_cur / max(n_fit, 1)
-            if badness < closest[0]:
-                closest = (badness,
-                           f"the {axis} axis needs {need_nT / 1000:.1f} uT; within the supply's "
-                           f"{supply.max_current_A:g} A that takes at least {n_cur} turns of {wire} per coil, "
-                           f"but only {n_fit} fit the {_wire_label(inp)}")
+            miss(n_cur / max(n_fit, 1),
+                 f"the {axis} axis needs {need_nT / 1000:.1f} uT; within the supply's "
+                 f"{supply.max_current_A:g} A that takes at least {n_cur} turns of {wire} per coil "
+                 f"on a {geometry.size_m:.3f} m {_size_name(geometry.shape)}, but only {n_fit} fit the "
+                 f"{_wire_label(inp)}")
             continue
         if n_cur > n_hi:
-            badness = 1.0 + (n_cur - n_hi) / max(n_hi, 1)
-            if badness < closest[0]:
-                closest = (badness,
-                           f"the {axis} axis needs {need_nT / 1000:.1f} uT; reaching it within the supply's "
-                           f"{supply.max_current_A:g} A takes {n_cur} turns of {wire}, too many to {res_text} "
-                           f"(at most {n_hi})")
+            miss(1.0 + (n_cur - n_hi) / max(n_hi, 1),
+                 f"the {axis} axis needs {need_nT / 1000:.1f} uT; reaching it within the supply's "
+                 f"{supply.max_current_A:g} A takes {n_cur} turns of {wire}, too many to keep the field step "
+                 f"under {inp.max_field_step_nT:g} nT with the supply's {supply.resolution_A:g} A step "
+                 f"(at most {n_hi})")
             continue
 
         def evaluate(n: int):
@@ -346,8 +374,7 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
                         f"(the most allowed) that takes {current:.2f} A at {abs(drive.voltage_V):.1f} V "
                         f"with the winding at {el.winding_temperature_C:.0f} C, more than the supply's "
                         f"{supply.max_voltage_V:g} V")
-            if badness < closest[0]:
-                closest = (badness, text)
+            miss(badness, text)
             continue
         if inp.minimise == "mass":
             lo, hi = n_cur - 1, n_hi  # hi feasible; find the fewest feasible turns
@@ -376,6 +403,8 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
         return _WindingResult(best, "", 0.0)
     if not inp.wires:
         return _WindingResult(None, "no wires are allowed (coil.wires is empty)", math.inf)
+    if closest is None:
+        return _WindingResult(None, f"the {axis} axis: no allowed wire fits the {_wire_label(inp)}", math.inf)
     return _WindingResult(None, closest[1], closest[0])
 
 
@@ -391,6 +420,53 @@ def _box(test_volume_m) -> str:
 
 def _size_name(shape: str) -> str:
     return "side" if shape == "square" else "radius"
+
+
+def axis_size_options(axis: str, shape: str, lower_m: float, ratio: float, inp: PlanInputs) -> tuple[float, ...]:
+    """Sizes (side or radius, m) worth trying for one pair, from ``lower_m`` (its smallest uniform
+    size that clears the pairs inside it) upward: ``lower_m`` itself, and the sizes where the
+    field-step limit lets one more turn of an allowed wire in, for as long as that turn pays.
+
+    With the spacing a fixed fraction of the size, the centre field per ampere-turn k falls as
+    1/size (Biot-Savart scales as current / length), so the turns a field step allows,
+    floor(step / (k x supply step)), grow in proportion to the size and the size where n turns
+    become allowed has a closed form. At equal field the current goes as size / turns and the
+    resistance as turns x size, so the power goes as size^3 / turns: a larger pair with one more
+    turn pays while (size_n^3 / n) falls. Sizes where the field first becomes reachable within
+    the supply's current and the step limit are kept too. Only the step limit makes turns grow
+    with size; without it (or for the mass and size objectives) the smallest size is best.
+
+    This is the per-axis candidate generator: a further dimension of choice per axis (another
+    coil system beside square and round pairs) plugs in here and in ``choose_winding``.
+    """
+    if inp.max_field_step_nT is None or inp.minimise != "power":
+        return (lower_m,)
+    from cage.electrical import max_turns
+
+    a = AXES.index(axis)
+    supply = inp.supplies[a]
+    need_T = float(inp.needed_field_nT[a]) * 1e-9
+    k0 = centre_field_per_ampere_turn_T(shape, lower_m, ratio * lower_m)
+    step_T = inp.max_field_step_nT * 1e-9
+    out = {lower_m}
+    for wire in inp.wires:
+        n_fit = max_turns(wire, inp.frame.width_m, inp.frame.depth_m)
+        n0 = min(n_fit, _turns_for_step(inp.max_field_step_nT, k0, supply.resolution_A))
+        reachable = n0 >= max(1, math.ceil(need_T / (k0 * supply.max_current_A) - 1e-9))
+        best = lower_m ** 3 / n0 if reachable else math.inf
+        for n in range(n0 + 1, n_fit + 1):
+            size = lower_m * n * k0 * supply.resolution_A / step_T * (1.0 + 1e-9)
+            if size > MAX_SIZE_M:
+                break
+            n_cur = max(1, math.ceil(need_T * size / (k0 * lower_m * supply.max_current_A) - 1e-9))
+            if n_cur > n:
+                continue  # the field is still out of reach at this size
+            cost = size ** 3 / n
+            if cost >= best:
+                break
+            out.add(size)
+            best = cost
+    return tuple(sorted(out))
 
 
 def plan_cage(inp: PlanInputs) -> Plan:
@@ -429,59 +505,76 @@ def plan_cage(inp: PlanInputs) -> Plan:
     orders = [inp.axis_order] if inp.axis_order else list(itertools.permutations(AXES))
     nest_cache: dict = {}
 
-    def nested_size(axis: str, shape: str, inner: tuple[CoilPair, ...], inflate: float) -> float:
-        key = (axis, shape, inner, inflate)
+    def nested_size(axis: str, shape: str, inner: tuple[CoilPair, ...], lower: float) -> float:
+        key = (axis, shape, inner, lower)
         if key not in nest_cache:
-            size, ratio = uniform[(axis, shape)]
+            ratio = uniform[(axis, shape)][1]
             try:
-                nest_cache[key] = smallest_nesting_size_m(axis, shape, list(inner), frame, size * inflate,
+                nest_cache[key] = smallest_nesting_size_m(axis, shape, list(inner), frame, lower,
                                                           spacing_per_size=ratio, upper_m=MAX_SIZE_M)
             except ValueError:
                 nest_cache[key] = math.inf
         return nest_cache[key]
 
-    def nest(order, shape_of, inflate=(1.0, 1.0)):
-        """Pairs placed innermost first; the two inner pairs may start above their uniform size."""
-        placed: list[CoilPair] = []
-        for depth, axis in enumerate(reversed(order)):  # innermost first
-            shape = shape_of[axis]
-            size = nested_size(axis, shape, tuple(placed), inflate[depth] if depth < 2 else 1.0)
-            if not math.isfinite(size):
-                return None
-            ratio = uniform[(axis, shape)][1]
-            placed.append(CoilPair(axis, shape, size, ratio * size, 1))
-        by_axis = {p.axis: p for p in placed}
-        return CoilCage(by_axis["x"], by_axis["y"], by_axis["z"])
+    def grow(order, shape_of, placed: tuple[CoilPair, ...], inflate):
+        """Every nesting of the pairs, innermost first: each pair at its smallest uniform size that
+        clears the pairs inside it (and, with axis_order, is at least as wide as they are), and at
+        the larger sizes where one more turn pays (axis_size_options)."""
+        depth = len(placed)
+        if depth == 3:
+            by_axis = {p.axis: p for p in placed}
+            yield CoilCage(by_axis["x"], by_axis["y"], by_axis["z"])
+            return
+        axis = order[2 - depth]
+        shape = shape_of[axis]
+        size_u, ratio = uniform[(axis, shape)]
+        lower = size_u * (inflate[depth] if depth < 2 else 1.0)
+        if inp.axis_order and placed:
+            widest = max(p.half_width_m for p in placed)
+            lower = max(lower, (2.0 * widest if shape == "square" else widest) * (1.0 + 1e-9))
+        size0 = nested_size(axis, shape, placed, lower)
+        if not math.isfinite(size0):
+            return
+        for size in axis_size_options(axis, shape, size0, ratio, inp):
+            if size > size0:
+                size = nested_size(axis, shape, placed, size)
+                if not math.isfinite(size):
+                    continue
+            yield from grow(order, shape_of, placed + (CoilPair(axis, shape, size, ratio * size, 1),), inflate)
 
     candidates = []
     room_misses = []
+    seen = set()
+
+    def consider(order, cage, shape_of) -> None:
+        key = (tuple(order), cage)
+        if key in seen:
+            return
+        seen.add(key)
+        layout = check_layout(cage, frame, inp.room)
+        if not layout.fits_room:
+            over = np.array(layout.envelope_m) / np.array(layout.room_inner_m)
+            room_misses.append((float(np.max(over)), order, layout))
+            return
+        candidates.append((order, cage, layout, shape_of))
+
     for order in orders:
         for shapes in itertools.product(inp.shapes, repeat=3):
             shape_of = dict(zip(order, shapes))
-            cage = nest(order, shape_of)
-            if cage is None:
-                continue
-            layout = check_layout(cage, frame, inp.room)
-            if not layout.fits_room:
-                over = np.array(layout.envelope_m) / np.array(layout.room_inner_m)
-                room_misses.append((float(np.max(over)), order, layout))
-                continue
-            candidates.append((order, cage, layout, shape_of))
+            for cage in grow(order, shape_of, (), (1.0, 1.0)):
+                consider(order, cage, shape_of)
 
     # Greedy nesting is not always best: a slightly larger inner pair can let an outer pair
     # shrink. Try inflated inner pairs for the few smallest candidates.
-    smallest = sorted(candidates, key=lambda c: (float(np.prod(c[2].envelope_m)), candidates.index(c)))
-    for order, cage0, _, shape_of in smallest[:REFINED_CANDIDATES]:
+    smallest = sorted(range(len(candidates)), key=lambda i: (float(np.prod(candidates[i][2].envelope_m)), i))
+    for i in smallest[:REFINED_CANDIDATES]:
+        order, cage0, _, shape_of = candidates[i]
         bound = [p.size_m > uniform[(p.axis, p.shape)][0] * (1 + 1e-9) for p in cage0.pairs]
         if not any(bound):
             continue  # every pair at its own uniform minimum: nothing to gain
         for inflate in INFLATIONS:
-            cage = nest(order, shape_of, inflate)
-            if cage is None:
-                continue
-            layout = check_layout(cage, frame, inp.room)
-            if layout.fits_room:
-                candidates.append((order, cage, layout, shape_of))
+            for cage in grow(order, shape_of, (), inflate):
+                consider(order, cage, shape_of)
     candidates = [c[:3] for c in candidates]
 
     if not candidates:
@@ -528,7 +621,24 @@ def plan_cage(inp: PlanInputs) -> Plan:
     plan = Plan(axes=axes, layout=layout, order=tuple(order) if inp.axis_order else layout.order,
                 minimise=inp.minimise, spacing=inp.spacing, total_power_W=power, copper_mass_kg=mass)
     packs = pack_differences(plan, inp)
-    return dataclasses.replace(plan, packs=packs, warnings=tuple(plan_warnings(axes, inp, packs)))
+    return dataclasses.replace(plan, packs=packs, warnings=tuple(plan_warnings(axes, inp, packs)),
+                               notes=tuple(plan_notes(plan, inp)))
+
+
+def plan_notes(plan: Plan, inp: PlanInputs) -> list[str]:
+    """Plain statements about a plan: the nesting order when the site fixed it, and each axis whose
+    supply is much larger than it needs, with the field resolution that results."""
+    out = []
+    if inp.axis_order:
+        out.append(f"nesting order from the site's coil.axis_order, outermost first: {', '.join(inp.axis_order)}")
+    for a in plan.axes:
+        share = a.full_current_A / a.supply.max_current_A
+        if share < LARGE_SUPPLY_FRACTION:
+            out.append(f"axis {a.pair.axis}: the supply is much larger than needed: full range takes "
+                       f"{a.full_current_A:.3g} A of its {a.supply.max_current_A:g} A ({share:.0%}); its "
+                       f"{a.supply.resolution_A:g} A step gives a field step of {a.field_step_nT:.1f} nT "
+                       f"(ask for a finer one with max_field_step_nT)")
+    return out
 
 
 def pack_differences(plan: Plan, inp: PlanInputs):
