@@ -366,12 +366,12 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
                 badness = math.inf if not math.isfinite(t) else 1.0 + (t - inp.max_winding_temperature_C) / rise
                 hot = "would run away thermally" if not math.isfinite(t) else f"would reach {t:.0f} C"
                 text = (f"the {axis} axis needs {need_nT / 1000:.1f} uT; with {n_hi} turns of {wire} "
-                        f"(the most allowed) at {current:.2f} A the winding {hot}, over the "
+                        f"(the most allowed) at {current:.4g} A the winding {hot}, over the "
                         f"{inp.max_winding_temperature_C:g} C limit")
             else:
                 badness = abs(drive.voltage_V) / supply.max_voltage_V
                 text = (f"the {axis} axis needs {need_nT / 1000:.1f} uT; with {n_hi} turns of {wire} "
-                        f"(the most allowed) that takes {current:.2f} A at {abs(drive.voltage_V):.1f} V "
+                        f"(the most allowed) that takes {current:.4g} A at {abs(drive.voltage_V):.3g} V "
                         f"with the winding at {el.winding_temperature_C:.0f} C, more than the supply's "
                         f"{supply.max_voltage_V:g} V")
             miss(badness, text)

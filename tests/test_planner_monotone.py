@@ -122,10 +122,11 @@ def test_weaker_supply_never_gives_fewer_turns(box, tol, wire, strong, weaker, s
 
 
 def test_weaker_supply_fixed_case_adds_turns():
-    # A fixed case that must move: half the current needs more turns on every axis.
+    # A fixed case that must move: least copper takes the fewest turns that reach the field, so
+    # half the current needs more turns on every axis.
     kwargs = dict(shape="square", wires=("AWG 12",), axis_order=("y", "x", "z"))
-    a = plan(make_site((0.25, 0.25, 0.25), 2e-3, max_current_A=8.0, **kwargs))
-    b = plan(make_site((0.25, 0.25, 0.25), 2e-3, max_current_A=4.0, **kwargs))
+    a = plan(make_site((0.25, 0.25, 0.25), 2e-3, max_current_A=8.0, **kwargs), "mass")
+    b = plan(make_site((0.25, 0.25, 0.25), 2e-3, max_current_A=4.0, **kwargs), "mass")
     assert a is not None and b is not None
     assert all(pb.pair.turns > pa.pair.turns for pa, pb in zip(a.axes, b.axes))
 
@@ -144,3 +145,30 @@ def test_tighter_uniformity_fixed_case_grows_the_pair(axis, shape):
     loose, _ = min_uniform_size_m(axis, shape, (0.3, 0.3, 0.3), 5e-3)
     tight, _ = min_uniform_size_m(axis, shape, (0.3, 0.3, 0.3), 5e-4)
     assert tight > 1.2 * loose
+
+
+# A bigger supply must never give a worse design or none (at equal voltage and current step):
+# with more current the same windings stay feasible, so the least power can only fall. The
+# smallsat-like supplies of 5, 20, 40, 60 and 100 A at 30 V are the fixed case (a rule tying
+# the full-range current to the supply's maximum once made 40 A and above "infeasible").
+@pytest.mark.parametrize("shape", ["square", "either"])
+def test_more_supply_current_never_more_power_fixed_case(shape):
+    powers = []
+    for amps in (5.0, 20.0, 40.0, 60.0, 100.0):
+        p = plan(make_site((0.25, 0.25, 0.25), 1e-3, shape=shape, max_current_A=amps, max_voltage_V=30.0,
+                           wires=("AWG 14", "AWG 16", "AWG 18")))
+        assert p is not None, amps
+        powers.append(p.total_power_W)
+    assert all(b <= a * (1 + 1e-9) for a, b in zip(powers, powers[1:])), powers
+
+
+@FAST
+@given(box=volumes, tol=tolerances, amps=st.floats(1.0, 20.0), more=st.floats(1.05, 10.0),
+       volts=st.floats(10.0, 60.0), shape=st.sampled_from(["square", "round", "either"]))
+def test_more_supply_current_never_more_power(box, tol, amps, more, volts, shape):
+    kwargs = dict(shape=shape, wires=("AWG 12", "AWG 16"), max_voltage_V=round(volts, 1))
+    small = plan(make_site(box, tol, max_current_A=round(amps, 2), **kwargs))
+    big = plan(make_site(box, tol, max_current_A=round(amps * more, 2), **kwargs))
+    if small is not None:
+        assert big is not None
+        assert big.total_power_W <= small.total_power_W * (1 + 1e-9)
