@@ -22,7 +22,8 @@ along y, height along z).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
+from functools import lru_cache
 
 import numpy as np
 
@@ -175,10 +176,18 @@ def _closest(pa: CoilPair, pb: CoilPair) -> float:
 
 
 def min_centreline_distance_m(pair_a: CoilPair, pair_b: CoilPair) -> float:
-    """Smallest distance between the centrelines of any coil of pair a and any of pair b."""
+    """Smallest distance between the centrelines of any coil of pair a and any of pair b.
+
+    Cached per distinct geometry (the planner asks for the same pairs many times); the turns
+    play no part."""
     if pair_a.axis == pair_b.axis:
         raise ValueError("the two pairs must belong to different axes")
-    return _closest(pair_a, pair_b)
+    return _closest_cached(replace(pair_a, turns=1), replace(pair_b, turns=1))
+
+
+@lru_cache(maxsize=200_000)
+def _closest_cached(pa: CoilPair, pb: CoilPair) -> float:
+    return _closest(pa, pb)
 
 
 def pair_extent_m(pair: CoilPair, frame: FrameSpec) -> np.ndarray:
