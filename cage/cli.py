@@ -399,11 +399,12 @@ def compare(
 def _load_checked_design(path: Path):
     """A design file that can be built: frames that do not collide, coils around the test volume."""
     from cage.designfile import design_to_dict, load_design
-    from cage.layout import geometry_problems
+    from cage.layout import design_frames, geometry_problems
 
     design_obj = load_design(path)
-    volume, _, frame, _ = _design_context(design_to_dict(design_obj))
-    problems = geometry_problems(design_obj.cage, frame, volume)
+    volume, _, _, _ = _design_context(design_to_dict(design_obj))
+    frames, frame = design_frames(design_obj, design_obj.layout)
+    problems = geometry_problems(frames, frame, volume)
     if problems:
         raise InputError(f"{path}: {problems[0]}; was the design file edited?")
     return design_obj

@@ -52,6 +52,8 @@ from cage.supplies import DriveCheck, Supply, check_drive, field_step_nT, supply
 
 OBJECTIVES = ("power", "mass", "size")
 SPACINGS = ("flat", "free")
+WINDING_POSITION = ("on the channel floor (the frame's inner face), layers outward, turns centred across "
+                    "the channel; side_m/radius_m is the winding's mean line, frame_size_m the frame line")
 LARGE_SUPPLY_FRACTION = 0.25  # full range below this share of the supply's current: say so
 UNIFORMITY_GRID = 9
 SIZE_PRECISION = 2e-4  # relative, bisection on the uniform size
@@ -109,7 +111,8 @@ class AxisPlan:
     field_per_amp_nT: float
     field_step_nT: float
     uniformity_reached: float
-    min_uniform_size_m: float
+    min_uniform_size_m: float  # smallest frame-line size meeting the tolerance with the thinnest pack
+    frame_pair: CoilPair | None = None  # the frame line (cage.channel); pair is the winding's mean line
 
 
 @dataclass(frozen=True)
@@ -127,7 +130,13 @@ class Plan:
 
     @property
     def cage(self) -> CoilCage:
+        """The windings' mean lines: the field model."""
         return CoilCage(*(a.pair for a in self.axes))
+
+    @property
+    def frame_cage(self) -> CoilCage:
+        """The frame lines the layout's frame solids are built on (cage.channel)."""
+        return CoilCage(*(a.frame_pair or a.pair for a in self.axes))
 
     def axis(self, name: str) -> AxisPlan:
         return self.axes[AXES.index(name)]
@@ -232,21 +241,59 @@ def _best_ratio(axis: str, shape: str, size_m: float, box: np.ndarray) -> tuple[
 
 
 def min_uniform_size_m(axis: str, shape: str, test_volume_m, tolerance: float,
-                       spacing: str = "flat") -> tuple[float, float]:
+                       spacing: str = "flat", inset_m: float = 0.0, every: bool = True) -> tuple[float, float]:
     """Smallest pair size (side or radius, m) meeting ``tolerance`` over the test box, and the
-    spacing/size ratio used. Bisection on the exact field; raises InfeasibleError beyond 50 m."""
+    spacing/size ratio used. Bisection on the exact field; raises InfeasibleError beyond 50 m.
+
+    inset_m: with a frame line of size s, the winding's mean line lies between s - inset_m (a
+    thin pack on the channel floor) and s (a full channel), see cage.channel; the size returned
+    is then the frame line's where every winding between those two (``every``) or the better of
+    the two extremes (not ``every``: a lower bound) meets the tolerance; the spacing is
+    ratio x (s - inset_m / 2)."""
+    return _min_uniform_size_cached(axis, shape, tuple(float(v) for v in test_volume_m), float(tolerance),
+                                    spacing, float(inset_m), bool(every))
+
+
+def _uniform_key(axis: str, test_volume_m) -> tuple:
+    """The test box seen from the pair's axis: along it, then the two across it (sorted: the
+    square and the circle are symmetric under swapping them)."""
+    a = AXES.index(axis)
+    return (test_volume_m[a],) + tuple(sorted((test_volume_m[(a + 1) % 3], test_volume_m[(a + 2) % 3])))
+
+
+_UNIFORM_CACHE: dict = {}
+
+
+def _min_uniform_size_cached(axis, shape, test_volume_m, tolerance, spacing, inset_m, every):
+    # the same bisection for every axis that sees the same box (a cube test volume: all three)
+    key = (shape, _uniform_key(axis, test_volume_m), tolerance, spacing, inset_m, every)
+    if key not in _UNIFORM_CACHE:
+        if len(_UNIFORM_CACHE) > 4096:
+            _UNIFORM_CACHE.clear()
+        _UNIFORM_CACHE[key] = _min_uniform_size(axis, shape, test_volume_m, tolerance, spacing, inset_m, every)
+    return _UNIFORM_CACHE[key]
+
+
+def _min_uniform_size(axis, shape, test_volume_m, tolerance, spacing, inset_m, every):
     box = _box_for_axis(test_volume_m)
     flat = flat_spacing_m(shape, 1.0)
+    half = inset_m / 2.0
 
     def dev(size: float) -> tuple[float, float]:
+        mid, thin = size - half, size - inset_m
         if spacing == "free":
-            ratio, d = _best_ratio(axis, shape, size, box)
-            return d, ratio
-        if size <= _box_clear_size_m(axis, shape, flat, box):
-            return math.inf, flat
-        return _deviation(axis, shape, size, flat, box), flat
+            ratio, _ = _best_ratio(axis, shape, mid, box)
+        else:
+            ratio = flat
+        gap = ratio * mid  # the spacing
+        if thin <= 0.0 or thin <= _box_clear_size_m(axis, shape, gap / thin, box):
+            return math.inf, ratio
+        if inset_m == 0.0:
+            return _deviation(axis, shape, size, ratio, box), ratio
+        pick = max if every else min
+        return pick(_deviation(axis, shape, thin, gap / thin, box), _deviation(axis, shape, size, gap / size, box)), ratio
 
-    lo = _box_clear_size_m(axis, shape, flat if spacing == "flat" else 0.5 * flat, box)
+    lo = _box_clear_size_m(axis, shape, flat if spacing == "flat" else 0.5 * flat, box) + inset_m
     hi = lo
     d, ratio = dev(hi)
     while d > tolerance:
@@ -307,7 +354,10 @@ def _wire_label(inp: PlanInputs) -> str:
 
 
 def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_size: float) -> _WindingResult:
-    """Best wire and turns for one axis of given shape, size and spacing (see module docstring)."""
+    """Best wire and turns for one axis whose frame line is ``geometry`` (shape, size, spacing;
+    see module docstring). The winding sits on the channel floor (``cage.channel``): its mean
+    line, which the field model uses, is inside the frame line by the unfilled channel depth."""
+    from cage.channel import winding_pair
     from cage.electrical import axis_electrics, max_turns
     from cage.uniformity import box_deviation
 
@@ -315,7 +365,19 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
     supply = inp.supplies[a]
     need_nT = float(inp.needed_field_nT[a])
     need_T = need_nT * 1e-9
-    k1 = _field_per_amp_per_turn_T(geometry)
+
+    deviations: dict = {}
+
+    def uniform_ok(pair: CoilPair) -> bool:
+        key = (pair.size_m, pair.spacing_m)
+        if key not in deviations:
+            deviations[key] = box_deviation(CoilPair(axis, pair.shape, pair.size_m, pair.spacing_m, 1),
+                                            inp.test_volume_m, n_per_edge=UNIFORMITY_GRID)
+        return deviations[key] <= inp.uniformity * UNIFORMITY_MARGIN
+
+    def winding(wire: str, n: int) -> tuple[CoilPair, float]:
+        pair = winding_pair(geometry, wire, n, inp.frame.width_m, inp.frame.depth_m)
+        return pair, _field_per_amp_per_turn_T(pair)
     best: AxisPlan | None = None
     best_key = None
     closest: tuple[float, str] | None = None
@@ -327,10 +389,21 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
 
     for wire in inp.wires:
         n_fit = max_turns(wire, inp.frame.width_m, inp.frame.depth_m)
+        if n_fit < 1:
+            miss(math.inf, f"the {axis} axis: {wire} does not fit the {_wire_label(inp)}")
+            continue
+        # The pack's depth moves its mean line a little with the turns: start from the thinnest
+        # pack's field per ampere-turn (the largest) and step to the exact counts.
+        k1 = winding(wire, 1)[1]
         n_cur = max(1, math.ceil(need_T / (k1 * supply.max_current_A) - 1e-9))
+        while n_cur <= n_fit and need_T > winding(wire, n_cur)[1] * n_cur * supply.max_current_A * (1 + 1e-12):
+            n_cur += 1
         n_hi = n_fit
         if inp.max_field_step_nT is not None:
-            n_res = _turns_for_step(inp.max_field_step_nT, k1, supply.resolution_A)
+            n_res = min(n_fit, _turns_for_step(inp.max_field_step_nT, k1, supply.resolution_A))
+            while n_res >= 1 and winding(wire, n_res)[1] * n_res * supply.resolution_A * 1e9 \
+                    > inp.max_field_step_nT * (1 + 1e-12):
+                n_res -= 1
             n_hi = min(n_fit, n_res)
         if n_cur > n_fit:
             miss(n_cur / max(n_fit, 1),
@@ -348,18 +421,26 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
             continue
 
         def evaluate(n: int):
-            pair = CoilPair(axis, geometry.shape, geometry.size_m, geometry.spacing_m, n)
-            current = need_T / (k1 * n)
+            pair, k1n = winding(wire, n)
+            current = need_T / (k1n * n)
             el = axis_electrics(pair, wire, current, lead_length_m=inp.lead_length_m,
                                 frame_width_m=inp.frame.width_m, frame_depth_m=inp.frame.depth_m,
                                 ambient_temperature_C=inp.ambient_temperature_C)
             drive = check_drive(supply, current, el.resistance_hot_ohm, el.lead_resistance_ambient_ohm)
             hot_ok = el.temperature_converged and el.winding_temperature_C <= inp.max_winding_temperature_C
-            return pair, current, el, drive, drive.within_limits and hot_ok
+            ok = drive.within_limits and hot_ok and uniform_ok(pair)
+            return pair, current, el, drive, ok
 
         top = evaluate(n_hi)
         if not top[4]:
-            _, current, el, drive, _ = top
+            pair_top, current, el, drive, _ = top
+            if drive.within_limits and not uniform_ok(pair_top):
+                dev = deviations[(pair_top.size_m, pair_top.spacing_m)]
+                miss(1.0 + dev / inp.uniformity,
+                     f"the {axis} axis: {n_hi} turns of {wire} on the channel floor of a {geometry.size_m:.3f} m "
+                     f"{_size_name(geometry.shape)} frame wind a {pair_top.size_m:.3f} m coil, which gives "
+                     f"{dev * 100:.4f} % over the test volume, more than {inp.uniformity * UNIFORMITY_MARGIN * 100:.4g} %")
+                continue
             if not el.temperature_converged or el.winding_temperature_C > inp.max_winding_temperature_C:
                 rise = inp.max_winding_temperature_C - inp.ambient_temperature_C
                 t = el.winding_temperature_C
@@ -391,13 +472,13 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
         pair, current, el, drive, _ = chosen
         key = (el.copper_mass_kg, drive.power_W) if inp.minimise == "mass" else (drive.power_W, el.copper_mass_kg)
         if best_key is None or key < best_key:
-            k1_nT = k1 * pair.turns * 1e9
+            k1_nT = _field_per_amp_per_turn_T(pair) * pair.turns * 1e9
             best_key = key
             best = AxisPlan(
                 pair=pair, wire=wire, electrics=el, supply=supply, drive=drive, needed_field_nT=need_nT,
                 full_current_A=current, field_per_amp_nT=k1_nT, field_step_nT=field_step_nT(supply, k1_nT),
                 uniformity_reached=box_deviation(pair, inp.test_volume_m, n_per_edge=UNIFORMITY_GRID),
-                min_uniform_size_m=min_uniform_size,
+                min_uniform_size_m=min_uniform_size, frame_pair=geometry,
             )
     if best is not None:
         return _WindingResult(best, "", 0.0)
@@ -422,7 +503,8 @@ def _size_name(shape: str) -> str:
     return "side" if shape == "square" else "radius"
 
 
-def axis_size_options(axis: str, shape: str, lower_m: float, ratio: float, inp: PlanInputs) -> tuple[float, ...]:
+def axis_size_options(axis: str, shape: str, lower_m: float, ratio: float, inp: PlanInputs,
+                      every_winding_m: float | None = None) -> tuple[float, ...]:
     """Sizes (side or radius, m) worth trying for one pair, from ``lower_m`` (its smallest uniform
     size that clears the pairs inside it) upward: ``lower_m`` itself, and the sizes where the
     field-step limit lets one more turn of an allowed wire in, for as long as that turn pays.
@@ -438,9 +520,13 @@ def axis_size_options(axis: str, shape: str, lower_m: float, ratio: float, inp: 
 
     This is the per-axis candidate generator: a further dimension of choice per axis (another
     coil system beside square and round pairs) plugs in here and in ``choose_winding``.
+
+    every_winding_m: the smallest frame line on which a winding of any depth meets the
+    uniformity (a thin pack sits further in, cage.channel); tried too when above lower_m.
     """
+    base = (lower_m,) if every_winding_m is None or every_winding_m <= lower_m else (lower_m, every_winding_m)
     if inp.max_field_step_nT is None or inp.minimise != "power":
-        return (lower_m,)
+        return base
     from cage.electrical import max_turns
 
     a = AXES.index(axis)
@@ -448,7 +534,7 @@ def axis_size_options(axis: str, shape: str, lower_m: float, ratio: float, inp: 
     need_T = float(inp.needed_field_nT[a]) * 1e-9
     k0 = centre_field_per_ampere_turn_T(shape, lower_m, ratio * lower_m)
     step_T = inp.max_field_step_nT * 1e-9
-    out = {lower_m}
+    out = set(base)
     for wire in inp.wires:
         n_fit = max_turns(wire, inp.frame.width_m, inp.frame.depth_m)
         n0 = min(n_fit, _turns_for_step(inp.max_field_step_nT, k0, supply.resolution_A))
@@ -478,10 +564,23 @@ def plan_cage(inp: PlanInputs) -> Plan:
 
     # 1. Smallest uniform size per axis and shape.
     uniform: dict[tuple[str, str], tuple[float, float]] = {}
+    # Sizes here are frame lines; the winding's mean line is inside it by at most the channel
+    # depth (a thin pack on the channel floor, cage.channel): the frame line is planned so that
+    # even the thinnest winding meets the tolerance, at its own flat (or free) spacing.
+    from cage.channel import inset_m
+
+    inset = {shape: inset_m(shape, frame.depth_m, 0.0) for shape in inp.shapes}
+    safe: dict[tuple[str, str], float] = {}
     for axis in AXES:
         for shape in inp.shapes:
-            uniform[(axis, shape)] = min_uniform_size_m(axis, shape, inp.test_volume_m,
-                                                        inp.uniformity * UNIFORMITY_MARGIN, inp.spacing)
+            tol = inp.uniformity * UNIFORMITY_MARGIN
+            uniform[(axis, shape)] = min_uniform_size_m(axis, shape, inp.test_volume_m, tol, inp.spacing,
+                                                        inset[shape], every=False)
+            safe[(axis, shape)] = min_uniform_size_m(axis, shape, inp.test_volume_m, tol, inp.spacing,
+                                                     inset[shape], every=True)[0]
+
+    def frame_line(axis: str, shape: str, size: float) -> CoilPair:
+        return CoilPair(axis, shape, size, uniform[(axis, shape)][1] * (size - inset[shape] / 2.0), 1)
 
     # A pair alone must fit the room: the plainest binding constraint.
     if inner_room is not None:
@@ -489,7 +588,7 @@ def plan_cage(inp: PlanInputs) -> Plan:
             misses = []
             for shape in inp.shapes:
                 size, ratio = uniform[(axis, shape)]
-                ext = 2.0 * pair_extent_m(CoilPair(axis, shape, size, ratio * size, 1), frame)
+                ext = 2.0 * pair_extent_m(frame_line(axis, shape, size), frame)
                 over = ext / inner_room
                 k = int(np.argmax(over))
                 misses.append((over[k], shape, size, ext[k], k))
@@ -511,7 +610,8 @@ def plan_cage(inp: PlanInputs) -> Plan:
             ratio = uniform[(axis, shape)][1]
             try:
                 nest_cache[key] = smallest_nesting_size_m(axis, shape, list(inner), frame, lower,
-                                                          spacing_per_size=ratio, upper_m=MAX_SIZE_M)
+                                                          spacing_per_size=ratio, upper_m=MAX_SIZE_M,
+                                                          spacing_inset_m=inset[shape] / 2.0)
             except ValueError:
                 nest_cache[key] = math.inf
         return nest_cache[key]
@@ -535,12 +635,12 @@ def plan_cage(inp: PlanInputs) -> Plan:
         size0 = nested_size(axis, shape, placed, lower)
         if not math.isfinite(size0):
             return
-        for size in axis_size_options(axis, shape, size0, ratio, inp):
+        for size in axis_size_options(axis, shape, size0, ratio, inp, safe[(axis, shape)]):
             if size > size0:
                 size = nested_size(axis, shape, placed, size)
                 if not math.isfinite(size):
                     continue
-            yield from grow(order, shape_of, placed + (CoilPair(axis, shape, size, ratio * size, 1),), inflate)
+            yield from grow(order, shape_of, placed + (frame_line(axis, shape, size),), inflate)
 
     candidates = []
     room_misses = []
@@ -704,6 +804,7 @@ def design_from_plan(plan: Plan, inp: PlanInputs, site=None, ambient=None):
             lead_length_m=inp.lead_length_m if inp.lead_length_m > 0 else None,
             frame_width_m=inp.frame.width_m,
             frame_depth_m=inp.frame.depth_m,
+            frame_size_m=(a.frame_pair or a.pair).size_m,
         ))
     lay = plan.layout
     site_obj = None
@@ -748,6 +849,7 @@ def design_from_plan(plan: Plan, inp: PlanInputs, site=None, ambient=None):
         "frame_width_m": inp.frame.width_m,
         "frame_depth_m": inp.frame.depth_m,
         "frame_gap_m": inp.frame.gap_m,
+        "winding_position": WINDING_POSITION,
         "fits_room": lay.fits_room,
         "total_power_W": plan.total_power_W,
         "copper_mass_kg": plan.copper_mass_kg,
