@@ -76,27 +76,29 @@ def mag_pair_sources(doc: dict, axis: str, current_A: float) -> list:
     +axis at the centre (right-handed about +axis).
     """
     shape, size, spacing, turns = axis_geometry(doc, axis)
+    half = size / 2.0 if shape == "square" else size
+    return [mag_coil(axis, shape, half, a0, turns * current_A) for a0 in (spacing / 2.0, -spacing / 2.0)]
+
+
+def mag_coil(axis: str, shape: str, half_width_m: float, a0: float, current_A: float):
+    """One coil as a magpylib source: a circle of radius half_width_m or a square of half side
+    half_width_m, in the plane axis = a0, right-handed about +axis (README/coils definition)."""
     i, iu, iv = _uv(axis)
-    amp_turns = turns * current_A
-    out = []
-    for a0 in (spacing / 2.0, -spacing / 2.0):
-        if shape == "round":
-            centre = np.zeros(3)
-            centre[i] = a0
-            normal = np.zeros(3)
-            normal[i] = 1.0
-            rot, _ = Rotation.align_vectors([normal], [[0.0, 0.0, 1.0]])
-            out.append(magpy.current.Circle(current=amp_turns, diameter=2.0 * size, position=centre,
-                                            orientation=rot))
-        else:
-            h = size / 2.0
-            verts = np.zeros((5, 3))
-            verts[:, i] = a0
-            # counter-clockwise seen from +axis: +u toward +v
-            verts[:, iu] = (h, h, -h, -h, h)
-            verts[:, iv] = (-h, h, h, -h, -h)
-            out.append(magpy.current.Polyline(current=amp_turns, vertices=verts))
-    return out
+    if shape == "round":
+        centre = np.zeros(3)
+        centre[i] = a0
+        normal = np.zeros(3)
+        normal[i] = 1.0
+        rot, _ = Rotation.align_vectors([normal], [[0.0, 0.0, 1.0]])
+        return magpy.current.Circle(current=current_A, diameter=2.0 * half_width_m, position=centre,
+                                    orientation=rot)
+    h = half_width_m
+    verts = np.zeros((5, 3))
+    verts[:, i] = a0
+    # counter-clockwise seen from +axis: +u toward +v
+    verts[:, iu] = (h, h, -h, -h, h)
+    verts[:, iv] = (-h, h, h, -h, -h)
+    return magpy.current.Polyline(current=current_A, vertices=verts)
 
 
 def mag_cage_field_T(doc: dict, currents_A, points_m) -> np.ndarray:
@@ -189,30 +191,15 @@ def real_pack_sources(doc: dict, axis: str, frame_width_m: float, frame_depth_m:
     per = int(math.floor(frame_width_m / od * (1 + 1e-9)))
     frame_half = a["frame_size_m"] / 2.0 if shape == "square" else a["frame_size_m"]
     floor = frame_half - frame_depth_m / 2.0
-    i, iu, iv = _uv(axis)
     layers = -(-turns // per)
-    verts_all, circles = [], []
+    out = []
     for j in range(layers):
         count = per if j < layers - 1 else turns - per * (layers - 1)
         r = floor + (j + 0.5) * od
         for k in range(count):
             along = (k - (count - 1) / 2.0) * od
-            for a0 in (spacing / 2.0 + along, -spacing / 2.0 + along):
-                if shape == "round":
-                    centre = np.zeros(3)
-                    centre[i] = a0
-                    normal = np.zeros(3)
-                    normal[i] = 1.0
-                    rot, _ = Rotation.align_vectors([normal], [[0.0, 0.0, 1.0]])
-                    circles.append(magpy.current.Circle(current=1.0, diameter=2.0 * r, position=centre,
-                                                        orientation=rot))
-                else:
-                    verts = np.zeros((5, 3))
-                    verts[:, i] = a0
-                    verts[:, iu] = (r, r, -r, -r, r)
-                    verts[:, iv] = (-r, r, r, -r, -r)
-                    verts_all.append(magpy.current.Polyline(current=1.0, vertices=verts))
-    return verts_all + circles
+            out += [mag_coil(axis, shape, r, a0, 1.0) for a0 in (spacing / 2.0 + along, -spacing / 2.0 + along)]
+    return out
 
 
 def real_pack_deviation(doc: dict, axis: str, test_volume_m, frame_width_m, frame_depth_m, n: int = 5) -> float:
