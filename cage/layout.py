@@ -22,7 +22,7 @@ along y, height along z).
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
@@ -178,16 +178,21 @@ def _closest(pa: CoilPair, pb: CoilPair) -> float:
 def min_centreline_distance_m(pair_a: CoilPair, pair_b: CoilPair) -> float:
     """Smallest distance between the centrelines of any coil of pair a and any of pair b.
 
-    Cached per distinct geometry (the planner asks for the same pairs many times); the turns
-    play no part."""
+    Cached per distinct geometry (the planner asks for the same pairs many times). The turns
+    play no part, and neither do the axes' names: any two different axes map onto x and y by
+    a permutation of the coordinates, an isometry that maps the pairs' coils onto coils of the
+    same kind, so the distance depends only on each pair's (shape, size, spacing) -- all six
+    axis orders of a cube share their clearances."""
     if pair_a.axis == pair_b.axis:
         raise ValueError("the two pairs must belong to different axes")
-    return _closest_cached(replace(pair_a, turns=1), replace(pair_b, turns=1))
+    ga = (pair_a.shape, float(pair_a.size_m), float(pair_a.spacing_m))
+    gb = (pair_b.shape, float(pair_b.size_m), float(pair_b.spacing_m))
+    return _closest_cached(*sorted((ga, gb)))
 
 
 @lru_cache(maxsize=200_000)
-def _closest_cached(pa: CoilPair, pb: CoilPair) -> float:
-    return _closest(pa, pb)
+def _closest_cached(ga: tuple, gb: tuple) -> float:
+    return _closest(CoilPair("x", ga[0], ga[1], ga[2], 1), CoilPair("y", gb[0], gb[1], gb[2], 1))
 
 
 def pair_extent_m(pair: CoilPair, frame: FrameSpec) -> np.ndarray:

@@ -605,7 +605,10 @@ def plan_cage(inp: PlanInputs) -> Plan:
     nest_cache: dict = {}
 
     def nested_size(axis: str, shape: str, inner: tuple[CoilPair, ...], lower: float) -> float:
-        key = (axis, shape, inner, lower)
+        # the axes' names play no part in clearances (cage.layout.min_centreline_distance_m), so
+        # symmetric orders share their nesting scans
+        key = (shape, uniform[(axis, shape)][1], tuple(sorted((p.shape, p.size_m, p.spacing_m) for p in inner)),
+               lower)
         if key not in nest_cache:
             ratio = uniform[(axis, shape)][1]
             try:
