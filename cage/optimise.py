@@ -63,6 +63,7 @@ MAX_SIZE_M = 50.0
 # which can move the deviation by about that much of itself.
 UNIFORMITY_MARGIN = 0.99
 REFINED_CANDIDATES = 3
+MAX_STEP_UPS = 12  # one-more-turn sizes tried per wire and axis
 INFLATIONS = ((1.03, 1.0), (1.06, 1.0), (1.1, 1.0), (1.15, 1.0), (1.0, 1.04), (1.0, 1.08), (1.06, 1.04),
               (1.1, 1.08))
 
@@ -509,12 +510,11 @@ def axis_size_options(axis: str, shape: str, lower_m: float, ratio: float, inp: 
     size that clears the pairs inside it) upward: ``lower_m`` itself, and the sizes where the
     field-step limit lets one more turn of an allowed wire in, for as long as that turn pays.
 
-    With the spacing a fixed fraction of the size, the centre field per ampere-turn k falls as
-    1/size (Biot-Savart scales as current / length), so the turns a field step allows,
-    floor(step / (k x supply step)), grow in proportion to the size and the size where n turns
-    become allowed has a closed form. At equal field the current goes as size / turns and the
-    resistance as turns x size, so the power goes as size^3 / turns: a larger pair with one more
-    turn pays while (size_n^3 / n) falls. Sizes where the field first becomes reachable within
+    The centre field per ampere-turn k (closed form) falls as the pair grows, so the turns a
+    field step allows, floor(step / (k x supply step)), grow with the size; the size where n
+    turns become allowed is found by bisection on the winding where it sits (cage.channel). At
+    equal field the current goes as 1 / (k n) and the resistance as n x perimeter, so the power
+    goes as perimeter / (k^2 n): a larger pair with one more turn pays while that falls. Sizes where the field first becomes reachable within
     the supply's current and the step limit are kept too. Only the step limit makes turns grow
     with size; without it (or for the mass and size objectives) the smallest size is best.
 
@@ -527,31 +527,59 @@ def axis_size_options(axis: str, shape: str, lower_m: float, ratio: float, inp: 
     base = (lower_m,) if every_winding_m is None or every_winding_m <= lower_m else (lower_m, every_winding_m)
     if inp.max_field_step_nT is None or inp.minimise != "power":
         return base
+    from cage.channel import inset_m, pack_depth_m
     from cage.electrical import max_turns
 
     a = AXES.index(axis)
     supply = inp.supplies[a]
     need_T = float(inp.needed_field_nT[a]) * 1e-9
-    k0 = centre_field_per_ampere_turn_T(shape, lower_m, ratio * lower_m)
     step_T = inp.max_field_step_nT * 1e-9
+    width, depth = inp.frame.width_m, inp.frame.depth_m
+    inset0 = inset_m(shape, depth, 0.0)
+
+    def k_of(f: float, wire: str, n: int) -> tuple[float, float]:
+        """Winding size and centre field per ampere-turn on a frame line of size f (cage.channel)."""
+        w = f - inset_m(shape, depth, pack_depth_m(wire, n, width))
+        return w, centre_field_per_ampere_turn_T(shape, w, ratio * (f - inset0 / 2.0))
+
+    def step_ok(f, wire, n):
+        return k_of(f, wire, n)[1] * n * supply.resolution_A <= step_T * (1 + 1e-12)
+
+    def cost(f, wire, n):  # power at equal field: perimeter / (k^2 n), up to a constant
+        w, k = k_of(f, wire, n)
+        return (4.0 * w if shape == "square" else 2.0 * math.pi * w) / (k * k * n)
+
     out = set(base)
     for wire in inp.wires:
-        n_fit = max_turns(wire, inp.frame.width_m, inp.frame.depth_m)
-        n0 = min(n_fit, _turns_for_step(inp.max_field_step_nT, k0, supply.resolution_A))
-        reachable = n0 >= max(1, math.ceil(need_T / (k0 * supply.max_current_A) - 1e-9))
-        best = lower_m ** 3 / n0 if reachable else math.inf
-        for n in range(n0 + 1, n_fit + 1):
-            size = lower_m * n * k0 * supply.resolution_A / step_T * (1.0 + 1e-9)
-            if size > MAX_SIZE_M:
+        n_fit = max_turns(wire, width, depth)
+        if n_fit < 1:
+            continue
+        n0 = min(n_fit, _turns_for_step(inp.max_field_step_nT, k_of(lower_m, wire, 1)[1], supply.resolution_A))
+        while n0 < n_fit and step_ok(lower_m, wire, n0 + 1):
+            n0 += 1
+        while n0 >= 1 and not step_ok(lower_m, wire, n0):
+            n0 -= 1
+        reachable = n0 >= 1 and need_T <= k_of(lower_m, wire, n0)[1] * n0 * supply.max_current_A
+        best = cost(lower_m, wire, n0) if reachable else math.inf
+        for n in range(max(n0, 0) + 1, min(n_fit, max(n0, 0) + MAX_STEP_UPS) + 1):
+            hi = lower_m * 1.05
+            while not step_ok(hi, wire, n):
+                hi *= 1.05
+                if hi > MAX_SIZE_M:
+                    break
+            if hi > MAX_SIZE_M:
                 break
-            n_cur = max(1, math.ceil(need_T * size / (k0 * lower_m * supply.max_current_A) - 1e-9))
-            if n_cur > n:
+            lo = lower_m
+            while hi - lo > 1e-6 * hi:
+                mid = 0.5 * (lo + hi)
+                lo, hi = (lo, mid) if step_ok(mid, wire, n) else (mid, hi)
+            if need_T > k_of(hi, wire, n)[1] * n * supply.max_current_A:
                 continue  # the field is still out of reach at this size
-            cost = size ** 3 / n
-            if cost >= best:
+            c = cost(hi, wire, n)
+            if c >= best:
                 break
-            out.add(size)
-            best = cost
+            out.add(hi)
+            best = c
     return tuple(sorted(out))
 
 
