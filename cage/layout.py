@@ -347,8 +347,9 @@ def geometry_problems(cage: CoilCage, frame: FrameSpec, test_volume_m=None) -> l
 
 def design_frames(design, layout_block: dict | None = None) -> tuple[CoilCage, FrameSpec]:
     """The frame lines and the frame cross-section of a design file's cage, from what each axis
-    records: its ``frame_size_m`` (else the frame line that carries its winding on the channel
-    floor, cage.channel, else the winding line itself) and its frame width and depth (the
+    records: its ``frame_size_m`` when the winding's line lies in that frame's channel (else, as
+    for an edited size, the frame line that carries its winding on the channel floor,
+    cage.channel, else the winding line itself) and its frame width and depth (the
     largest over the axes; else the layout block's; else 40 x 40 mm). The gap is the layout
     block's, else 10 mm."""
     from cage.channel import frame_line_pair
@@ -367,7 +368,8 @@ def design_frames(design, layout_block: dict | None = None) -> tuple[CoilCage, F
     pairs = []
     for a in design.axes:
         p = a.pair
-        if a.frame_size_m is not None:
+        channel = (1.0 if p.shape == "square" else 0.5) * depth  # most the frame line may exceed the winding's
+        if a.frame_size_m is not None and -1e-9 <= a.frame_size_m - p.size_m <= channel + 1e-9:
             pairs.append(CoilPair(p.axis, p.shape, a.frame_size_m, p.spacing_m, 1))
         elif a.wire is not None and a.frame_width_m is not None and a.frame_depth_m is not None:
             try:
