@@ -114,7 +114,7 @@ def test_weaker_supply_never_gives_fewer_turns(box, tol, wire, strong, weaker, s
     weak = plan_inputs_from_site(weak_site, weak_site.measured.field_nT, minimise=minimise)
     for pa in a.axes:
         # The same coils (geometry and wire) driven from the weaker supply.
-        result = choose_winding(pa.pair.axis, pa.pair, weak, pa.min_uniform_size_m)
+        result = choose_winding(pa.pair.axis, pa.frame_pair, weak, pa.min_uniform_size_m)
         if result.plan is None:
             continue  # the weaker supply cannot drive these coils at all: not fewer turns
         assert result.plan.wire == pa.wire == wire
