@@ -6,7 +6,11 @@ electrical model, no Taylor estimates):
 1. Uniformity fixes the smallest size of each axis's pair. With the spacing at the flat
    optimum (or, with ``spacing="free"``, the spacing that minimises the deviation at each
    size), the largest relative deviation over the test box falls as the pair grows, so the
-   smallest size meeting the tolerance is found by bisection on the exact field.
+   smallest size meeting the tolerance is found by bisection on the exact field. Sizes in
+   the search are frame lines; the winding sits on the channel floor inside its frame line
+   (``cage.channel``), so the bisection is for the winding where it sits: the smallest frame
+   line on which some winding meets the tolerance (a full channel), and the one on which
+   every winding does (a thin pack); each wire and turn count is checked on its own winding.
 2. Nesting: for each order of the axes (outermost first; only the site's ``axis_order`` when
    given, and then each pair is at least as wide as every pair inside it) and each allowed
    shape per axis,
