@@ -312,6 +312,7 @@ def design_table(plan, inp, packs=()) -> str:
         lines.append(f"Room less clearance         {room} m: {'fits' if lay.fits_room else 'does NOT fit'}")
     lines.append(f"Total at full range         {plan.total_power_W:.1f} W, copper {plan.copper_mass_kg:.1f} kg "
                  f"(objective: least {plan.minimise})")
+    lines += [f"Note: {n}" for n in getattr(plan, "notes", ())]
     if packs:
         centre = ", ".join(f"{a} {d.centre_relative * 1e6:.0f} ppm" for a, d in zip("xyz", packs))
         unif = ", ".join(f"{a} {d.box_deviation_pack * 100:.4f} %" for a, d in zip("xyz", packs))
@@ -401,6 +402,8 @@ def compare(
     minimise: str = typer.Option("power", "--minimise", help=MINIMISE_HELP),
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of a table."),
     plot: Optional[Path] = typer.Option(None, "--plot", help="Write the comparison figure (PNG)."),
+    max_field_step_nT: Optional[float] = typer.Option(
+        None, "--max-field-step-nT", help="Largest field step one supply current step may give (nT)."),
 ):
     """The best cage at each outer size: envelope, uniform cube, power, copper, fit in the room."""
     from cage import sitefile
@@ -416,7 +419,8 @@ def compare(
     amb = site_ambient(site)
     for w in amb.warnings:
         _warn(w)
-    inp = plan_inputs_from_site(site, amb.in_force_cage_nT, shape=shape, minimise=minimise)
+    inp = plan_inputs_from_site(site, amb.in_force_cage_nT, shape=shape, minimise=minimise,
+                                max_field_step_nT=max_field_step_nT)
     if sys.stderr.isatty() and not as_json:
         with typer.progressbar(length=len(values), label="sizes", file=sys.stderr) as bar:
             rows = compare_sizes(inp, values, progress=lambda _s: bar.update(1))
@@ -854,6 +858,8 @@ def plan(
     shape: Optional[str] = typer.Option(None, "--shape", help=SHAPE_HELP),
     minimise: str = typer.Option("power", "--minimise", help=MINIMISE_HELP),
     targets: Optional[Path] = typer.Option(None, "--targets", help="CSV of extra targets: label,x_uT,y_uT,z_uT[,frame]."),
+    max_field_step_nT: Optional[float] = typer.Option(
+        None, "--max-field-step-nT", help="Largest field step one supply current step may give (nT)."),
 ):
     """The main job: field, design, setpoints (CSV, JSON, SCPI), figures and report, into one folder."""
     from cage import sitefile
@@ -866,7 +872,7 @@ def plan(
 
     refuse_overwriting_inputs(out, [p for p in (site_file, targets) if p is not None], folder=True)
     check_replaceable(out, ())
-    amb, inp, plan_obj = _plan_from_site(site, shape, minimise, "flat", None)
+    amb, inp, plan_obj = _plan_from_site(site, shape, minimise, "flat", max_field_step_nT)
     design_obj = _stamped_design(design_from_plan(plan_obj, inp, site, amb), site, amb,
                                  _design_cautions(plan_obj, inp))
     _, table = build_setpoints(design_obj, site, targets_file=targets)

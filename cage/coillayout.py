@@ -171,12 +171,14 @@ def smallest_nesting_axis_size_m(axis: str, shape: str, system: str, inner, fram
 
 
 def design_geometry_problems(design, frame: FrameSpec, test_volume_m=None) -> list[str]:
-    """``cage.layout.geometry_problems`` for a design of pairs (its messages unchanged), else
+    """``cage.layout.geometry_problems`` for a design of pairs (on the frame lines and frame sizes
+    each axis records, ``cage.layout.design_frames``), else
     ``axes_geometry_problems`` of every coil (``cage.designfile.Design``)."""
-    from cage.layout import geometry_problems
+    from cage.layout import design_frames, geometry_problems
 
     if design.all_pairs:
-        return geometry_problems(design.cage, frame, test_volume_m)
+        frames, pair_frame = design_frames(design, design.layout)  # each axis's recorded frame line
+        return geometry_problems(frames, pair_frame, test_volume_m)
     return axes_geometry_problems(design.axis_cage, frame, test_volume_m)
 
 

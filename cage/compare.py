@@ -2,11 +2,12 @@
 
 The outer size of a cage is the transverse extent of its outermost pair's winding
 centreline: the side of a square pair, the diameter of a round one, so square and round
-cages compare on one scale. At each outer size, for each allowed shape (the same on all
-three axes) and each order of the axes, the outermost pair takes that size and each pair
-further in takes the largest size that clears the frames outside it (cage.layout); the
+cages compare on one scale. At each outer size, for each allowed shape on each axis (mixed shapes when the site allows
+either, as the planner) and each order of the axes (only the site's axis_order when given),
+the outermost pair takes that size and each pair further in takes the largest size, no
+wider than the pair outside it, that clears the frames outside it (cage.layout); the
 windings are chosen as by the planner (cage.optimise.choose_winding) for the site's field
-range and supplies. The best candidate by the planner's objective is reported with its
+range and supplies. The best candidate by the planner's objective, preferring cages that fit the room and meet the uniformity, is reported with its
 envelope, the largest uniform cube at the site's tolerance (the smallest over the three
 axes, bisection on the exact field), power at full range, copper mass and whether it fits
 the room; or why no candidate works.
@@ -38,7 +39,7 @@ class CompareRow:
     outer_size_m: float
     feasible: bool
     reason: str = ""
-    shape: str = ""
+    shape: str = ""  # the shape of all three pairs, or "mixed" (see shapes)
     order: tuple[str, ...] = ()
     sizes_m: tuple[float, float, float] | None = None
     envelope_m: tuple[float, float, float] | None = None
@@ -47,6 +48,7 @@ class CompareRow:
     copper_mass_kg: float | None = None
     fits_room: bool = False
     meets_requirement: bool = False
+    shapes: tuple[str, ...] = ()  # per axis x, y, z
 
     def as_dict(self) -> dict:
         return {
@@ -60,6 +62,7 @@ class CompareRow:
             "uniform_cube_m": self.uniform_cube_m, "total_power_W": self.total_power_W,
             "copper_mass_kg": self.copper_mass_kg, "fits_room": self.fits_room,
             "meets_requirement": self.meets_requirement,
+            "shapes": dict(zip(AXES, self.shapes)) if self.shapes else None,
         }
 
 
@@ -101,16 +104,21 @@ def compare_sizes(inp: PlanInputs, sizes_m, progress=None) -> list[CompareRow]:
     from cage.uniformity import largest_uniform_cube_side_m
 
     rows = []
+    orders = [inp.axis_order] if inp.axis_order else list(itertools.permutations(AXES))
+    windings: dict = {}
     for outer in sizes_m:
         outer = float(outer)
         best = None
         reason = ""
-        for shape in inp.shapes:
-            for order in itertools.permutations(AXES):
-                top = _size_from_outer(shape, outer)
-                placed = [CoilPair(order[0], shape, top, flat_spacing_m(shape, top), 1)]
+        for order in orders:
+            for shapes in itertools.product(inp.shapes, repeat=3):
+                shape_of = dict(zip(order, shapes))
+                top = _size_from_outer(shape_of[order[0]], outer)
+                placed = [CoilPair(order[0], shape_of[order[0]], top, flat_spacing_m(shape_of[order[0]], top), 1)]
                 for axis in order[1:]:
-                    size = largest_nesting_size_m(axis, shape, placed, inp.frame, top)
+                    shape = shape_of[axis]
+                    upper = _size_from_outer(shape, 2.0 * placed[-1].half_width_m)
+                    size = largest_nesting_size_m(axis, shape, placed, inp.frame, upper)
                     if size is None:
                         break
                     placed.append(CoilPair(axis, shape, size, flat_spacing_m(shape, size), 1))
@@ -121,7 +129,9 @@ def compare_sizes(inp: PlanInputs, sizes_m, progress=None) -> list[CompareRow]:
                 cage = CoilCage(by_axis["x"], by_axis["y"], by_axis["z"])
                 axes = []
                 for pair in cage.pairs:
-                    result = choose_winding(pair.axis, pair, inp, pair.size_m)
+                    if pair not in windings:
+                        windings[pair] = choose_winding(pair.axis, pair, inp, pair.size_m)
+                    result = windings[pair]
                     if result.plan is None:
                         reason = result.reason
                         break
@@ -133,9 +143,11 @@ def compare_sizes(inp: PlanInputs, sizes_m, progress=None) -> list[CompareRow]:
                 mass = sum(a.electrics.copper_mass_kg for a in axes)
                 volume = float(np.prod(layout.envelope_m))
                 score = {"power": power, "mass": mass, "size": volume}[inp.minimise]
-                key = (not layout.fits_room, score)
+                meets = all(a.uniformity_reached <= inp.uniformity for a in axes) and layout.fits_room
+                key = (not layout.fits_room, not meets, score)
                 if best is None or key < best[0]:
-                    best = (key, shape, order, cage, axes, layout, power, mass)
+                    label = shapes[0] if len(set(shapes)) == 1 else "mixed"
+                    best = (key, label, order, cage, axes, layout, power, mass)
         if best is None:
             rows.append(CompareRow(outer_size_m=outer, feasible=False, reason=reason or "no candidate"))
         else:
@@ -144,6 +156,7 @@ def compare_sizes(inp: PlanInputs, sizes_m, progress=None) -> list[CompareRow]:
             meets = all(a.uniformity_reached <= inp.uniformity for a in axes)
             rows.append(CompareRow(
                 outer_size_m=outer, feasible=True, shape=shape, order=tuple(order),
+                shapes=tuple(p.shape for p in cage.pairs),
                 sizes_m=tuple(p.size_m for p in cage.pairs), envelope_m=layout.envelope_m,
                 uniform_cube_m=cube, total_power_W=power, copper_mass_kg=mass, fits_room=layout.fits_room,
                 meets_requirement=meets and layout.fits_room,

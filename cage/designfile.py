@@ -91,6 +91,7 @@ OPTIONAL_AXIS_NUMBERS = (
     "lead_length_m",
     "frame_width_m",
     "frame_depth_m",
+    "frame_size_m",
 )
 _AXIS_KEYS = ("shape", "side_m", "radius_m", "spacing_m", "turns", "wire") + OPTIONAL_AXIS_NUMBERS
 _AXIS_KEYS_V2 = ("system", "shape", "coils", "wire") + OPTIONAL_AXIS_NUMBERS
@@ -128,7 +129,9 @@ class AxisDesign:
     max_current_A: the design current (A). winding_temperature_C: steady winding temperature
     (degC). current_density_A_per_mm2: at max_current_A (A/mm^2). lead_length_m: supply to
     pair and back (m). frame_width_m, frame_depth_m: the winding channel along the axis and
-    radially (m). Every number is positive and finite when present.
+    radially (m). frame_size_m: the frame line the channel is centred on (side or radius, m);
+    the winding lies on the channel floor inside it (cage.channel). Every number is positive
+    and finite when present.
     """
 
     pair: CoilPair | None
@@ -146,6 +149,7 @@ class AxisDesign:
     frame_width_m: float | None = None
     frame_depth_m: float | None = None
     coil_axis: CoilAxis | None = None
+    frame_size_m: float | None = None
 
     def __post_init__(self):
         if self.pair is None and self.coil_axis is None:
@@ -339,7 +343,7 @@ class _Reader:
             extra["wire"] = wire
         for key in OPTIONAL_AXIS_NUMBERS:
             if key in obj:
-                if key in ("frame_width_m", "frame_depth_m"):
+                if key in ("frame_width_m", "frame_depth_m", "frame_size_m"):
                     extra[key] = self.number(obj[key], f"{path}.{key}", "m", MAX_LENGTH_M)
                 elif key == "lead_length_m":
                     extra[key] = self.number(obj[key], f"{path}.{key}", "m", MAX_LEAD_LENGTH_M)

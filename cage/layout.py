@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 
@@ -175,10 +176,23 @@ def _closest(pa: CoilPair, pb: CoilPair) -> float:
 
 
 def min_centreline_distance_m(pair_a: CoilPair, pair_b: CoilPair) -> float:
-    """Smallest distance between the centrelines of any coil of pair a and any of pair b."""
+    """Smallest distance between the centrelines of any coil of pair a and any of pair b.
+
+    Cached per distinct geometry (the planner asks for the same pairs many times). The turns
+    play no part, and neither do the axes' names: any two different axes map onto x and y by
+    a permutation of the coordinates, an isometry that maps the pairs' coils onto coils of the
+    same kind, so the distance depends only on each pair's (shape, size, spacing) -- all six
+    axis orders of a cube share their clearances."""
     if pair_a.axis == pair_b.axis:
         raise ValueError("the two pairs must belong to different axes")
-    return _closest(pair_a, pair_b)
+    ga = (pair_a.shape, float(pair_a.size_m), float(pair_a.spacing_m))
+    gb = (pair_b.shape, float(pair_b.size_m), float(pair_b.spacing_m))
+    return _closest_cached(*sorted((ga, gb)))
+
+
+@lru_cache(maxsize=200_000)
+def _closest_cached(ga: tuple, gb: tuple) -> float:
+    return _closest(CoilPair("x", ga[0], ga[1], ga[2], 1), CoilPair("y", gb[0], gb[1], gb[2], 1))
 
 
 def pair_extent_m(pair: CoilPair, frame: FrameSpec) -> np.ndarray:
@@ -238,9 +252,10 @@ def clears(pair: CoilPair, others, frame: FrameSpec) -> bool:
 
 def smallest_nesting_size_m(axis: str, shape: str, inner, frame: FrameSpec, lower_m: float,
                             spacing_per_size: float | None = None, upper_m: float = 100.0,
-                            tolerance_m: float = 1e-3) -> float:
+                            tolerance_m: float = 1e-3, spacing_inset_m: float = 0.0) -> float:
     """Smallest size (side or radius) >= lower_m of a pair on ``axis`` that clears every
-    pair in ``inner``, with spacing = spacing_per_size x size (default: the flat optimum).
+    pair in ``inner``, with spacing = spacing_per_size x (size - spacing_inset_m) (default: the
+    flat optimum of the size itself).
 
     Scans upward from ``lower_m`` on a fixed grid of ``NESTING_STEP_M`` to the first size
     that clears, then bisects between it and the grid point before; the size returned
@@ -252,7 +267,7 @@ def smallest_nesting_size_m(axis: str, shape: str, inner, frame: FrameSpec, lowe
     ratio = spacing_per_size if spacing_per_size is not None else flat_spacing_m(shape, 1.0)
 
     def ok(size: float) -> bool:
-        return clears(CoilPair(axis, shape, size, ratio * size, 1), inner, frame)
+        return clears(CoilPair(axis, shape, size, ratio * (size - spacing_inset_m), 1), inner, frame)
 
     if not inner:
         return float(lower_m)
@@ -344,3 +359,39 @@ def geometry_problems(cage: CoilCage, frame: FrameSpec, test_volume_m=None) -> l
                 out.append(f"the {p.axis} pair's coils pass through the "
                            f"{' x '.join(f'{2 * h:g}' for h in half)} m test volume")
     return out
+
+
+def design_frames(design, layout_block: dict | None = None) -> tuple[CoilCage, FrameSpec]:
+    """The frame lines and the frame cross-section of a design file's cage, from what each axis
+    records: its ``frame_size_m`` when the winding's line lies in that frame's channel (else, as
+    for an edited size, the frame line that carries its winding on the channel floor,
+    cage.channel, else the winding line itself) and its frame width and depth (the
+    largest over the axes; else the layout block's; else 40 x 40 mm). The gap is the layout
+    block's, else 10 mm."""
+    from cage.channel import frame_line_pair
+
+    lay = layout_block or {}
+
+    def number(v, default):
+        return float(v) if isinstance(v, (int, float)) and not isinstance(v, bool) and v > 0 else default
+
+    widths = [a.frame_width_m for a in design.axes if a.frame_width_m is not None]
+    depths = [a.frame_depth_m for a in design.axes if a.frame_depth_m is not None]
+    width = max(widths) if widths else number(lay.get("frame_width_m"), 0.04)
+    depth = max(depths) if depths else number(lay.get("frame_depth_m"), 0.04)
+    gap = lay.get("frame_gap_m")
+    gap = float(gap) if isinstance(gap, (int, float)) and not isinstance(gap, bool) and gap >= 0 else 0.01
+    pairs = []
+    for a in design.axes:
+        p = a.pair
+        channel = (1.0 if p.shape == "square" else 0.5) * depth  # most the frame line may exceed the winding's
+        if a.frame_size_m is not None and -1e-9 <= a.frame_size_m - p.size_m <= channel + 1e-9:
+            pairs.append(CoilPair(p.axis, p.shape, a.frame_size_m, p.spacing_m, 1))
+        elif a.wire is not None and a.frame_width_m is not None and a.frame_depth_m is not None:
+            try:
+                pairs.append(frame_line_pair(p, a.wire, a.frame_width_m, a.frame_depth_m))
+            except Exception:  # an unknown wire: the design reader reports it
+                pairs.append(p)
+        else:
+            pairs.append(p)
+    return CoilCage(*pairs), FrameSpec(width, depth, gap)

@@ -6,8 +6,14 @@ electrical model, no Taylor estimates):
 1. Uniformity fixes the smallest size of each axis's pair. With the spacing at the flat
    optimum (or, with ``spacing="free"``, the spacing that minimises the deviation at each
    size), the largest relative deviation over the test box falls as the pair grows, so the
-   smallest size meeting the tolerance is found by bisection on the exact field.
-2. Nesting: for each order of the axes (outermost first) and each allowed shape per axis,
+   smallest size meeting the tolerance is found by bisection on the exact field. Sizes in
+   the search are frame lines; the winding sits on the channel floor inside its frame line
+   (``cage.channel``), so the bisection is for the winding where it sits: the smallest frame
+   line on which some winding meets the tolerance (a full channel), and the one on which
+   every winding does (a thin pack); each wire and turn count is checked on its own winding.
+2. Nesting: for each order of the axes (outermost first; only the site's ``axis_order`` when
+   given, and then each pair is at least as wide as every pair inside it) and each allowed
+   shape per axis,
    the innermost pair takes its smallest uniform size; each pair further out takes the
    smallest size that is both uniform and clears the frames of the pairs inside it
    (``cage.layout``). A smaller cage needs less power and copper for the same field, so the
@@ -17,13 +23,16 @@ electrical model, no Taylor estimates):
    (``INFLATIONS``), and every variant competes on the objective.
 3. Windings: per axis, the field needed is |ambient component| + extra field. For each allowed
    wire, the turns range from the fewest that reach the field within the supply's current, to
-   the most that fit the frame channel, and no more than keep the full-range current at or
-   above half the supply's maximum (so the supply's current step gives a field step within a
-   factor two of the best it can) -- or, with ``max_field_step_nT``, no more than keep the
-   field step under that. Voltage at operating temperature and winding temperature fall as
-   turns rise (the same ampere-turns through more copper), so the feasible turns are an
-   interval found by bisection. Power at full range is least at the most turns; copper mass
-   at the fewest.
+   the most that fit the frame channel -- and, only when the user asks for a largest field
+   step (``max_field_step_nT``), no more than keep the field step under it. Voltage at
+   operating temperature and winding temperature fall as turns rise (the same ampere-turns
+   through more copper), so the feasible turns are an interval found by bisection. Power at
+   full range is least at the most turns; copper mass at the fewest. A larger supply only
+   widens the interval, so it never gives a design with more power. The field step that
+   results is reported, and the design notes a supply much larger than the axis needs.
+   Sizes and turns are searched jointly: where the step limit caps the turns, each pair is
+   also tried at the larger sizes where one more turn is allowed, while that turn pays
+   (``axis_size_options``).
 4. Objective over all candidates: least total power at full range (default), least copper
    mass, or least envelope volume ("size"); ties go to the smaller envelope, then the order
    of enumeration, so the same site always gives the same design.
@@ -47,7 +56,9 @@ from cage.supplies import DriveCheck, Supply, check_drive, field_step_nT, supply
 
 OBJECTIVES = ("power", "mass", "size")
 SPACINGS = ("flat", "free")
-MIN_CURRENT_FRACTION = 0.5
+WINDING_POSITION = ("on the channel floor (the frame's inner face), layers outward, turns centred across "
+                    "the channel; side_m/radius_m is the winding's mean line, frame_size_m the frame line")
+LARGE_SUPPLY_FRACTION = 0.25  # full range below this share of the supply's current: say so
 UNIFORMITY_GRID = 9
 SIZE_PRECISION = 2e-4  # relative, bisection on the uniform size
 MAX_SIZE_M = 50.0
@@ -56,6 +67,7 @@ MAX_SIZE_M = 50.0
 # which can move the deviation by about that much of itself.
 UNIFORMITY_MARGIN = 0.99
 REFINED_CANDIDATES = 3
+MAX_STEP_UPS = 12  # one-more-turn sizes tried per wire and axis
 INFLATIONS = ((1.03, 1.0), (1.06, 1.0), (1.1, 1.0), (1.15, 1.0), (1.0, 1.04), (1.0, 1.08), (1.06, 1.04),
               (1.1, 1.08))
 
@@ -104,7 +116,8 @@ class AxisPlan:
     field_per_amp_nT: float
     field_step_nT: float
     uniformity_reached: float
-    min_uniform_size_m: float
+    min_uniform_size_m: float  # smallest frame-line size meeting the tolerance with the thinnest pack
+    frame_pair: CoilPair | None = None  # the frame line (cage.channel); pair is the winding's mean line
 
 
 @dataclass(frozen=True)
@@ -117,11 +130,18 @@ class Plan:
     total_power_W: float
     copper_mass_kg: float
     warnings: tuple[str, ...] = field(default_factory=tuple)
-    packs: tuple = ()  # cage.coils.PackDifference per axis: the real winding pack against one filament
+    packs: tuple = ()
+    notes: tuple[str, ...] = ()  # plain statements for the summary (order given, supply larger than needed)  # cage.coils.PackDifference per axis: the real winding pack against one filament
 
     @property
     def cage(self) -> CoilCage:
+        """The windings' mean lines: the field model."""
         return CoilCage(*(a.pair for a in self.axes))
+
+    @property
+    def frame_cage(self) -> CoilCage:
+        """The frame lines the layout's frame solids are built on (cage.channel)."""
+        return CoilCage(*(a.frame_pair or a.pair for a in self.axes))
 
     def axis(self, name: str) -> AxisPlan:
         return self.axes[AXES.index(name)]
@@ -160,6 +180,8 @@ def plan_inputs_from_site(site, ambient_cage_nT, *, shape: str | None = None, mi
             raise InputError(f"{where}: coil.wires: {exc}") from None
     if max_field_step_nT is not None and not (math.isfinite(max_field_step_nT) and max_field_step_nT > 0):
         raise InputError(f"--max-field-step-nT must be a positive number, got {max_field_step_nT!r}")
+    if max_field_step_nT is None:
+        max_field_step_nT = getattr(req, "max_field_step_nT", None)
     coil = site.coil
     return PlanInputs(
         test_volume_m=tuple(req.test_volume_m),
@@ -224,21 +246,59 @@ def _best_ratio(axis: str, shape: str, size_m: float, box: np.ndarray) -> tuple[
 
 
 def min_uniform_size_m(axis: str, shape: str, test_volume_m, tolerance: float,
-                       spacing: str = "flat") -> tuple[float, float]:
+                       spacing: str = "flat", inset_m: float = 0.0, every: bool = True) -> tuple[float, float]:
     """Smallest pair size (side or radius, m) meeting ``tolerance`` over the test box, and the
-    spacing/size ratio used. Bisection on the exact field; raises InfeasibleError beyond 50 m."""
+    spacing/size ratio used. Bisection on the exact field; raises InfeasibleError beyond 50 m.
+
+    inset_m: with a frame line of size s, the winding's mean line lies between s - inset_m (a
+    thin pack on the channel floor) and s (a full channel), see cage.channel; the size returned
+    is then the frame line's where every winding between those two (``every``) or the better of
+    the two extremes (not ``every``: a lower bound) meets the tolerance; the spacing is
+    ratio x (s - inset_m / 2)."""
+    return _min_uniform_size_cached(axis, shape, tuple(float(v) for v in test_volume_m), float(tolerance),
+                                    spacing, float(inset_m), bool(every))
+
+
+def _uniform_key(axis: str, test_volume_m) -> tuple:
+    """The test box seen from the pair's axis: along it, then the two across it (sorted: the
+    square and the circle are symmetric under swapping them)."""
+    a = AXES.index(axis)
+    return (test_volume_m[a],) + tuple(sorted((test_volume_m[(a + 1) % 3], test_volume_m[(a + 2) % 3])))
+
+
+_UNIFORM_CACHE: dict = {}
+
+
+def _min_uniform_size_cached(axis, shape, test_volume_m, tolerance, spacing, inset_m, every):
+    # the same bisection for every axis that sees the same box (a cube test volume: all three)
+    key = (shape, _uniform_key(axis, test_volume_m), tolerance, spacing, inset_m, every)
+    if key not in _UNIFORM_CACHE:
+        if len(_UNIFORM_CACHE) > 4096:
+            _UNIFORM_CACHE.clear()
+        _UNIFORM_CACHE[key] = _min_uniform_size(axis, shape, test_volume_m, tolerance, spacing, inset_m, every)
+    return _UNIFORM_CACHE[key]
+
+
+def _min_uniform_size(axis, shape, test_volume_m, tolerance, spacing, inset_m, every):
     box = _box_for_axis(test_volume_m)
     flat = flat_spacing_m(shape, 1.0)
+    half = inset_m / 2.0
 
     def dev(size: float) -> tuple[float, float]:
+        mid, thin = size - half, size - inset_m
         if spacing == "free":
-            ratio, d = _best_ratio(axis, shape, size, box)
-            return d, ratio
-        if size <= _box_clear_size_m(axis, shape, flat, box):
-            return math.inf, flat
-        return _deviation(axis, shape, size, flat, box), flat
+            ratio, _ = _best_ratio(axis, shape, mid, box)
+        else:
+            ratio = flat
+        gap = ratio * mid  # the spacing
+        if thin <= 0.0 or thin <= _box_clear_size_m(axis, shape, gap / thin, box):
+            return math.inf, ratio
+        if inset_m == 0.0:
+            return _deviation(axis, shape, size, ratio, box), ratio
+        pick = max if every else min
+        return pick(_deviation(axis, shape, thin, gap / thin, box), _deviation(axis, shape, size, gap / size, box)), ratio
 
-    lo = _box_clear_size_m(axis, shape, flat if spacing == "flat" else 0.5 * flat, box)
+    lo = _box_clear_size_m(axis, shape, flat if spacing == "flat" else 0.5 * flat, box) + inset_m
     hi = lo
     d, ratio = dev(hi)
     while d > tolerance:
@@ -267,11 +327,31 @@ class _WindingResult:
     badness: float  # how far the closest try missed (1 = at the limit)
 
 
-def _field_per_amp_per_turn_T(pair: CoilPair) -> float:
-    from cage.coils import pair_field_T
+def centre_field_per_ampere_turn_T(shape: str, size_m: float, spacing_m: float) -> float:
+    """Axial field at the centre of a pair (T per ampere-turn of each coil), closed form.
 
-    one = CoilPair(pair.axis, pair.shape, pair.size_m, pair.spacing_m, 1)
-    return float(pair_field_T(one, 1.0, np.zeros((1, 3)))[0, AXES.index(pair.axis)])
+    Round loop of radius R at axial distance z: B = mu0 R^2 / (2 (R^2 + z^2)^(3/2)) per
+    ampere (Jackson, Classical Electrodynamics, 3rd ed., section 5.5). Square loop of half
+    side h at axial distance z: B = 2 mu0 h^2 / (pi (h^2 + z^2) sqrt(2 h^2 + z^2)) per ampere
+    (Biot-Savart of four straight sides; e.g. Misakian, J. Res. NIST 105, 557 (2000)). A pair:
+    twice that at z = spacing / 2.
+    """
+    mu0 = 4e-7 * math.pi
+    z = spacing_m / 2.0
+    if shape == "round":
+        r2 = size_m * size_m
+        return 2.0 * mu0 * r2 / (2.0 * (r2 + z * z) ** 1.5)
+    h2 = (size_m / 2.0) ** 2
+    return 2.0 * 2.0 * mu0 * h2 / (math.pi * (h2 + z * z) * math.sqrt(2.0 * h2 + z * z))
+
+
+def _field_per_amp_per_turn_T(pair: CoilPair) -> float:
+    return centre_field_per_ampere_turn_T(pair.shape, pair.size_m, pair.spacing_m)
+
+
+def _turns_for_step(max_step_nT: float, k1_T: float, resolution_A: float) -> int:
+    """Most turns per coil that keep the field step (supply step x field per ampere) under max_step_nT."""
+    return math.floor(max_step_nT * 1e-9 / (k1_T * resolution_A) * (1 + 1e-12))
 
 
 def _wire_label(inp: PlanInputs) -> str:
@@ -279,7 +359,10 @@ def _wire_label(inp: PlanInputs) -> str:
 
 
 def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_size: float) -> _WindingResult:
-    """Best wire and turns for one axis of given shape, size and spacing (see module docstring)."""
+    """Best wire and turns for one axis whose frame line is ``geometry`` (shape, size, spacing;
+    see module docstring). The winding sits on the channel floor (``cage.channel``): its mean
+    line, which the field model uses, is inside the frame line by the unfilled channel depth."""
+    from cage.channel import winding_pair
     from cage.electrical import axis_electrics, max_turns
     from cage.uniformity import box_deviation
 
@@ -287,67 +370,97 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
     supply = inp.supplies[a]
     need_nT = float(inp.needed_field_nT[a])
     need_T = need_nT * 1e-9
-    k1 = _field_per_amp_per_turn_T(geometry)
+
+    deviations: dict = {}
+
+    def uniform_ok(pair: CoilPair) -> bool:
+        key = (pair.size_m, pair.spacing_m)
+        if key not in deviations:
+            deviations[key] = box_deviation(CoilPair(axis, pair.shape, pair.size_m, pair.spacing_m, 1),
+                                            inp.test_volume_m, n_per_edge=UNIFORMITY_GRID)
+        return deviations[key] <= inp.uniformity * UNIFORMITY_MARGIN
+
+    def winding(wire: str, n: int) -> tuple[CoilPair, float]:
+        pair = winding_pair(geometry, wire, n, inp.frame.width_m, inp.frame.depth_m)
+        return pair, _field_per_amp_per_turn_T(pair)
     best: AxisPlan | None = None
     best_key = None
-    closest = (math.inf, "")
+    closest: tuple[float, str] | None = None
+
+    def miss(badness: float, text: str) -> None:
+        nonlocal closest
+        if closest is None or badness < closest[0]:
+            closest = (badness, text)
 
     for wire in inp.wires:
         n_fit = max_turns(wire, inp.frame.width_m, inp.frame.depth_m)
+        if n_fit < 1:
+            miss(math.inf, f"the {axis} axis: {wire} does not fit the {_wire_label(inp)}")
+            continue
+        # The pack's depth moves its mean line a little with the turns: start from the thinnest
+        # pack's field per ampere-turn (the largest) and step to the exact counts.
+        k1 = winding(wire, 1)[1]
         n_cur = max(1, math.ceil(need_T / (k1 * supply.max_current_A) - 1e-9))
+        while n_cur <= n_fit and need_T > winding(wire, n_cur)[1] * n_cur * supply.max_current_A * (1 + 1e-12):
+            n_cur += 1
+        n_hi = n_fit
         if inp.max_field_step_nT is not None:
-            n_res = math.floor(inp.max_field_step_nT * 1e-9 / (k1 * supply.resolution_A))
-            res_text = f"keep the field step under {inp.max_field_step_nT:g} nT"
-        else:
-            n_res = math.floor(need_T / (k1 * MIN_CURRENT_FRACTION * supply.max_current_A))
-            res_text = f"keep the full-range current above {MIN_CURRENT_FRACTION:.0%} of the supply's"
-        n_hi = min(n_fit, n_res)
+            n_res = min(n_fit, _turns_for_step(inp.max_field_step_nT, k1, supply.resolution_A))
+            while n_res >= 1 and winding(wire, n_res)[1] * n_res * supply.resolution_A * 1e9 \
+                    > inp.max_field_step_nT * (1 + 1e-12):
+                n_res -= 1
+            n_hi = min(n_fit, n_res)
         if n_cur > n_fit:
-            badness = n_cur / max(n_fit, 1)
-            if badness < closest[0]:
-                closest = (badness,
-                           f"the {axis} axis needs {need_nT / 1000:.1f} uT; within the supply's "
-                           f"{supply.max_current_A:g} A that takes at least {n_cur} turns of {wire} per coil, "
-                           f"but only {n_fit} fit the {_wire_label(inp)}")
+            miss(n_cur / max(n_fit, 1),
+                 f"the {axis} axis needs {need_nT / 1000:.1f} uT; within the supply's "
+                 f"{supply.max_current_A:g} A that takes at least {n_cur} turns of {wire} per coil "
+                 f"on a {geometry.size_m:.3f} m {_size_name(geometry.shape)}, but only {n_fit} fit the "
+                 f"{_wire_label(inp)}")
             continue
         if n_cur > n_hi:
-            badness = 1.0 + (n_cur - n_hi) / max(n_hi, 1)
-            if badness < closest[0]:
-                closest = (badness,
-                           f"the {axis} axis needs {need_nT / 1000:.1f} uT; reaching it within the supply's "
-                           f"{supply.max_current_A:g} A takes {n_cur} turns of {wire}, too many to {res_text} "
-                           f"(at most {n_hi})")
+            miss(1.0 + (n_cur - n_hi) / max(n_hi, 1),
+                 f"the {axis} axis needs {need_nT / 1000:.1f} uT; reaching it within the supply's "
+                 f"{supply.max_current_A:g} A takes {n_cur} turns of {wire}, too many to keep the field step "
+                 f"under {inp.max_field_step_nT:g} nT with the supply's {supply.resolution_A:g} A step "
+                 f"(at most {n_hi})")
             continue
 
         def evaluate(n: int):
-            pair = CoilPair(axis, geometry.shape, geometry.size_m, geometry.spacing_m, n)
-            current = need_T / (k1 * n)
+            pair, k1n = winding(wire, n)
+            current = need_T / (k1n * n)
             el = axis_electrics(pair, wire, current, lead_length_m=inp.lead_length_m,
                                 frame_width_m=inp.frame.width_m, frame_depth_m=inp.frame.depth_m,
                                 ambient_temperature_C=inp.ambient_temperature_C)
             drive = check_drive(supply, current, el.resistance_hot_ohm, el.lead_resistance_ambient_ohm)
             hot_ok = el.temperature_converged and el.winding_temperature_C <= inp.max_winding_temperature_C
-            return pair, current, el, drive, drive.within_limits and hot_ok
+            ok = drive.within_limits and hot_ok and uniform_ok(pair)
+            return pair, current, el, drive, ok
 
         top = evaluate(n_hi)
         if not top[4]:
-            _, current, el, drive, _ = top
+            pair_top, current, el, drive, _ = top
+            if drive.within_limits and not uniform_ok(pair_top):
+                dev = deviations[(pair_top.size_m, pair_top.spacing_m)]
+                miss(1.0 + dev / inp.uniformity,
+                     f"the {axis} axis: {n_hi} turns of {wire} on the channel floor of a {geometry.size_m:.3f} m "
+                     f"{_size_name(geometry.shape)} frame wind a {pair_top.size_m:.3f} m coil, which gives "
+                     f"{dev * 100:.4f} % over the test volume, more than {inp.uniformity * UNIFORMITY_MARGIN * 100:.4g} %")
+                continue
             if not el.temperature_converged or el.winding_temperature_C > inp.max_winding_temperature_C:
                 rise = inp.max_winding_temperature_C - inp.ambient_temperature_C
                 t = el.winding_temperature_C
                 badness = math.inf if not math.isfinite(t) else 1.0 + (t - inp.max_winding_temperature_C) / rise
                 hot = "would run away thermally" if not math.isfinite(t) else f"would reach {t:.0f} C"
                 text = (f"the {axis} axis needs {need_nT / 1000:.1f} uT; with {n_hi} turns of {wire} "
-                        f"(the most allowed) at {current:.2f} A the winding {hot}, over the "
+                        f"(the most allowed) at {current:.4g} A the winding {hot}, over the "
                         f"{inp.max_winding_temperature_C:g} C limit")
             else:
                 badness = abs(drive.voltage_V) / supply.max_voltage_V
                 text = (f"the {axis} axis needs {need_nT / 1000:.1f} uT; with {n_hi} turns of {wire} "
-                        f"(the most allowed) that takes {current:.2f} A at {abs(drive.voltage_V):.1f} V "
+                        f"(the most allowed) that takes {current:.4g} A at {abs(drive.voltage_V):.3g} V "
                         f"with the winding at {el.winding_temperature_C:.0f} C, more than the supply's "
                         f"{supply.max_voltage_V:g} V")
-            if badness < closest[0]:
-                closest = (badness, text)
+            miss(badness, text)
             continue
         if inp.minimise == "mass":
             lo, hi = n_cur - 1, n_hi  # hi feasible; find the fewest feasible turns
@@ -364,18 +477,20 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
         pair, current, el, drive, _ = chosen
         key = (el.copper_mass_kg, drive.power_W) if inp.minimise == "mass" else (drive.power_W, el.copper_mass_kg)
         if best_key is None or key < best_key:
-            k1_nT = k1 * pair.turns * 1e9
+            k1_nT = _field_per_amp_per_turn_T(pair) * pair.turns * 1e9
             best_key = key
             best = AxisPlan(
                 pair=pair, wire=wire, electrics=el, supply=supply, drive=drive, needed_field_nT=need_nT,
                 full_current_A=current, field_per_amp_nT=k1_nT, field_step_nT=field_step_nT(supply, k1_nT),
                 uniformity_reached=box_deviation(pair, inp.test_volume_m, n_per_edge=UNIFORMITY_GRID),
-                min_uniform_size_m=min_uniform_size,
+                min_uniform_size_m=min_uniform_size, frame_pair=geometry,
             )
     if best is not None:
         return _WindingResult(best, "", 0.0)
     if not inp.wires:
         return _WindingResult(None, "no wires are allowed (coil.wires is empty)", math.inf)
+    if closest is None:
+        return _WindingResult(None, f"the {axis} axis: no allowed wire fits the {_wire_label(inp)}", math.inf)
     return _WindingResult(None, closest[1], closest[0])
 
 
@@ -393,6 +508,85 @@ def _size_name(shape: str) -> str:
     return "side" if shape == "square" else "radius"
 
 
+def axis_size_options(axis: str, shape: str, lower_m: float, ratio: float, inp: PlanInputs,
+                      every_winding_m: float | None = None) -> tuple[float, ...]:
+    """Sizes (side or radius, m) worth trying for one pair, from ``lower_m`` (its smallest uniform
+    size that clears the pairs inside it) upward: ``lower_m`` itself, and the sizes where the
+    field-step limit lets one more turn of an allowed wire in, for as long as that turn pays.
+
+    The centre field per ampere-turn k (closed form) falls as the pair grows, so the turns a
+    field step allows, floor(step / (k x supply step)), grow with the size; the size where n
+    turns become allowed is found by bisection on the winding where it sits (cage.channel). At
+    equal field the current goes as 1 / (k n) and the resistance as n x perimeter, so the power
+    goes as perimeter / (k^2 n): a larger pair with one more turn pays while that falls. Sizes where the field first becomes reachable within
+    the supply's current and the step limit are kept too. Only the step limit makes turns grow
+    with size; without it (or for the mass and size objectives) the smallest size is best.
+
+    This is the per-axis candidate generator: a further dimension of choice per axis (another
+    coil system beside square and round pairs) plugs in here and in ``choose_winding``.
+
+    every_winding_m: the smallest frame line on which a winding of any depth meets the
+    uniformity (a thin pack sits further in, cage.channel); tried too when above lower_m.
+    """
+    base = (lower_m,) if every_winding_m is None or every_winding_m <= lower_m else (lower_m, every_winding_m)
+    if inp.max_field_step_nT is None or inp.minimise != "power":
+        return base
+    from cage.channel import inset_m, pack_depth_m
+    from cage.electrical import max_turns
+
+    a = AXES.index(axis)
+    supply = inp.supplies[a]
+    need_T = float(inp.needed_field_nT[a]) * 1e-9
+    step_T = inp.max_field_step_nT * 1e-9
+    width, depth = inp.frame.width_m, inp.frame.depth_m
+    inset0 = inset_m(shape, depth, 0.0)
+
+    def k_of(f: float, wire: str, n: int) -> tuple[float, float]:
+        """Winding size and centre field per ampere-turn on a frame line of size f (cage.channel)."""
+        w = f - inset_m(shape, depth, pack_depth_m(wire, n, width))
+        return w, centre_field_per_ampere_turn_T(shape, w, ratio * (f - inset0 / 2.0))
+
+    def step_ok(f, wire, n):
+        return k_of(f, wire, n)[1] * n * supply.resolution_A <= step_T * (1 + 1e-12)
+
+    def cost(f, wire, n):  # power at equal field: perimeter / (k^2 n), up to a constant
+        w, k = k_of(f, wire, n)
+        return (4.0 * w if shape == "square" else 2.0 * math.pi * w) / (k * k * n)
+
+    out = set(base)
+    for wire in inp.wires:
+        n_fit = max_turns(wire, width, depth)
+        if n_fit < 1:
+            continue
+        n0 = min(n_fit, _turns_for_step(inp.max_field_step_nT, k_of(lower_m, wire, 1)[1], supply.resolution_A))
+        while n0 < n_fit and step_ok(lower_m, wire, n0 + 1):
+            n0 += 1
+        while n0 >= 1 and not step_ok(lower_m, wire, n0):
+            n0 -= 1
+        reachable = n0 >= 1 and need_T <= k_of(lower_m, wire, n0)[1] * n0 * supply.max_current_A
+        best = cost(lower_m, wire, n0) if reachable else math.inf
+        for n in range(max(n0, 0) + 1, min(n_fit, max(n0, 0) + MAX_STEP_UPS) + 1):
+            hi = lower_m * 1.05
+            while not step_ok(hi, wire, n):
+                hi *= 1.05
+                if hi > MAX_SIZE_M:
+                    break
+            if hi > MAX_SIZE_M:
+                break
+            lo = lower_m
+            while hi - lo > 1e-6 * hi:
+                mid = 0.5 * (lo + hi)
+                lo, hi = (lo, mid) if step_ok(mid, wire, n) else (mid, hi)
+            if need_T > k_of(hi, wire, n)[1] * n * supply.max_current_A:
+                continue  # the field is still out of reach at this size
+            c = cost(hi, wire, n)
+            if c >= best:
+                break
+            out.add(hi)
+            best = c
+    return tuple(sorted(out))
+
+
 def plan_cage(inp: PlanInputs) -> Plan:
     """The best cage for the inputs, or InfeasibleError naming the binding constraint."""
     if inp.minimise not in OBJECTIVES:
@@ -402,10 +596,23 @@ def plan_cage(inp: PlanInputs) -> Plan:
 
     # 1. Smallest uniform size per axis and shape.
     uniform: dict[tuple[str, str], tuple[float, float]] = {}
+    # Sizes here are frame lines; the winding's mean line is inside it by at most the channel
+    # depth (a thin pack on the channel floor, cage.channel): the frame line is planned so that
+    # even the thinnest winding meets the tolerance, at its own flat (or free) spacing.
+    from cage.channel import inset_m
+
+    inset = {shape: inset_m(shape, frame.depth_m, 0.0) for shape in inp.shapes}
+    safe: dict[tuple[str, str], float] = {}
     for axis in AXES:
         for shape in inp.shapes:
-            uniform[(axis, shape)] = min_uniform_size_m(axis, shape, inp.test_volume_m,
-                                                        inp.uniformity * UNIFORMITY_MARGIN, inp.spacing)
+            tol = inp.uniformity * UNIFORMITY_MARGIN
+            uniform[(axis, shape)] = min_uniform_size_m(axis, shape, inp.test_volume_m, tol, inp.spacing,
+                                                        inset[shape], every=False)
+            safe[(axis, shape)] = min_uniform_size_m(axis, shape, inp.test_volume_m, tol, inp.spacing,
+                                                     inset[shape], every=True)[0]
+
+    def frame_line(axis: str, shape: str, size: float) -> CoilPair:
+        return CoilPair(axis, shape, size, uniform[(axis, shape)][1] * (size - inset[shape] / 2.0), 1)
 
     # A pair alone must fit the room: the plainest binding constraint.
     if inner_room is not None:
@@ -413,7 +620,7 @@ def plan_cage(inp: PlanInputs) -> Plan:
             misses = []
             for shape in inp.shapes:
                 size, ratio = uniform[(axis, shape)]
-                ext = 2.0 * pair_extent_m(CoilPair(axis, shape, size, ratio * size, 1), frame)
+                ext = 2.0 * pair_extent_m(frame_line(axis, shape, size), frame)
                 over = ext / inner_room
                 k = int(np.argmax(over))
                 misses.append((over[k], shape, size, ext[k], k))
@@ -429,59 +636,80 @@ def plan_cage(inp: PlanInputs) -> Plan:
     orders = [inp.axis_order] if inp.axis_order else list(itertools.permutations(AXES))
     nest_cache: dict = {}
 
-    def nested_size(axis: str, shape: str, inner: tuple[CoilPair, ...], inflate: float) -> float:
-        key = (axis, shape, inner, inflate)
+    def nested_size(axis: str, shape: str, inner: tuple[CoilPair, ...], lower: float) -> float:
+        # the axes' names play no part in clearances (cage.layout.min_centreline_distance_m), so
+        # symmetric orders share their nesting scans
+        key = (shape, uniform[(axis, shape)][1], tuple(sorted((p.shape, p.size_m, p.spacing_m) for p in inner)),
+               lower)
         if key not in nest_cache:
-            size, ratio = uniform[(axis, shape)]
+            ratio = uniform[(axis, shape)][1]
             try:
-                nest_cache[key] = smallest_nesting_size_m(axis, shape, list(inner), frame, size * inflate,
-                                                          spacing_per_size=ratio, upper_m=MAX_SIZE_M)
+                nest_cache[key] = smallest_nesting_size_m(axis, shape, list(inner), frame, lower,
+                                                          spacing_per_size=ratio, upper_m=MAX_SIZE_M,
+                                                          spacing_inset_m=inset[shape] / 2.0)
             except ValueError:
                 nest_cache[key] = math.inf
         return nest_cache[key]
 
-    def nest(order, shape_of, inflate=(1.0, 1.0)):
-        """Pairs placed innermost first; the two inner pairs may start above their uniform size."""
-        placed: list[CoilPair] = []
-        for depth, axis in enumerate(reversed(order)):  # innermost first
-            shape = shape_of[axis]
-            size = nested_size(axis, shape, tuple(placed), inflate[depth] if depth < 2 else 1.0)
-            if not math.isfinite(size):
-                return None
-            ratio = uniform[(axis, shape)][1]
-            placed.append(CoilPair(axis, shape, size, ratio * size, 1))
-        by_axis = {p.axis: p for p in placed}
-        return CoilCage(by_axis["x"], by_axis["y"], by_axis["z"])
+    def grow(order, shape_of, placed: tuple[CoilPair, ...], inflate):
+        """Every nesting of the pairs, innermost first: each pair at its smallest uniform size that
+        clears the pairs inside it (and, with axis_order, is at least as wide as they are), and at
+        the larger sizes where one more turn pays (axis_size_options)."""
+        depth = len(placed)
+        if depth == 3:
+            by_axis = {p.axis: p for p in placed}
+            yield CoilCage(by_axis["x"], by_axis["y"], by_axis["z"])
+            return
+        axis = order[2 - depth]
+        shape = shape_of[axis]
+        size_u, ratio = uniform[(axis, shape)]
+        lower = size_u * (inflate[depth] if depth < 2 else 1.0)
+        if inp.axis_order and placed:
+            widest = max(p.half_width_m for p in placed)
+            lower = max(lower, (2.0 * widest if shape == "square" else widest) * (1.0 + 1e-9))
+        size0 = nested_size(axis, shape, placed, lower)
+        if not math.isfinite(size0):
+            return
+        for size in axis_size_options(axis, shape, size0, ratio, inp, safe[(axis, shape)]):
+            if size > size0:
+                size = nested_size(axis, shape, placed, size)
+                if not math.isfinite(size):
+                    continue
+            yield from grow(order, shape_of, placed + (frame_line(axis, shape, size),), inflate)
 
     candidates = []
     room_misses = []
+    seen = set()
+
+    def consider(order, cage, shape_of) -> None:
+        key = (tuple(order), cage)
+        if key in seen:
+            return
+        seen.add(key)
+        layout = check_layout(cage, frame, inp.room)
+        if not layout.fits_room:
+            over = np.array(layout.envelope_m) / np.array(layout.room_inner_m)
+            room_misses.append((float(np.max(over)), order, layout))
+            return
+        candidates.append((order, cage, layout, shape_of))
+
     for order in orders:
         for shapes in itertools.product(inp.shapes, repeat=3):
             shape_of = dict(zip(order, shapes))
-            cage = nest(order, shape_of)
-            if cage is None:
-                continue
-            layout = check_layout(cage, frame, inp.room)
-            if not layout.fits_room:
-                over = np.array(layout.envelope_m) / np.array(layout.room_inner_m)
-                room_misses.append((float(np.max(over)), order, layout))
-                continue
-            candidates.append((order, cage, layout, shape_of))
+            for cage in grow(order, shape_of, (), (1.0, 1.0)):
+                consider(order, cage, shape_of)
 
     # Greedy nesting is not always best: a slightly larger inner pair can let an outer pair
     # shrink. Try inflated inner pairs for the few smallest candidates.
-    smallest = sorted(candidates, key=lambda c: (float(np.prod(c[2].envelope_m)), candidates.index(c)))
-    for order, cage0, _, shape_of in smallest[:REFINED_CANDIDATES]:
+    smallest = sorted(range(len(candidates)), key=lambda i: (float(np.prod(candidates[i][2].envelope_m)), i))
+    for i in smallest[:REFINED_CANDIDATES]:
+        order, cage0, _, shape_of = candidates[i]
         bound = [p.size_m > uniform[(p.axis, p.shape)][0] * (1 + 1e-9) for p in cage0.pairs]
         if not any(bound):
             continue  # every pair at its own uniform minimum: nothing to gain
         for inflate in INFLATIONS:
-            cage = nest(order, shape_of, inflate)
-            if cage is None:
-                continue
-            layout = check_layout(cage, frame, inp.room)
-            if layout.fits_room:
-                candidates.append((order, cage, layout, shape_of))
+            for cage in grow(order, shape_of, (), inflate):
+                consider(order, cage, shape_of)
     candidates = [c[:3] for c in candidates]
 
     if not candidates:
@@ -528,7 +756,24 @@ def plan_cage(inp: PlanInputs) -> Plan:
     plan = Plan(axes=axes, layout=layout, order=tuple(order) if inp.axis_order else layout.order,
                 minimise=inp.minimise, spacing=inp.spacing, total_power_W=power, copper_mass_kg=mass)
     packs = pack_differences(plan, inp)
-    return dataclasses.replace(plan, packs=packs, warnings=tuple(plan_warnings(axes, inp, packs)))
+    return dataclasses.replace(plan, packs=packs, warnings=tuple(plan_warnings(axes, inp, packs)),
+                               notes=tuple(plan_notes(plan, inp)))
+
+
+def plan_notes(plan: Plan, inp: PlanInputs) -> list[str]:
+    """Plain statements about a plan: the nesting order when the site fixed it, and each axis whose
+    supply is much larger than it needs, with the field resolution that results."""
+    out = []
+    if inp.axis_order:
+        out.append(f"nesting order from the site's coil.axis_order, outermost first: {', '.join(inp.axis_order)}")
+    for a in plan.axes:
+        share = a.full_current_A / a.supply.max_current_A
+        if share < LARGE_SUPPLY_FRACTION:
+            out.append(f"axis {a.pair.axis}: the supply is much larger than needed: full range takes "
+                       f"{a.full_current_A:.3g} A of its {a.supply.max_current_A:g} A ({share:.0%}); its "
+                       f"{a.supply.resolution_A:g} A step gives a field step of {a.field_step_nT:.1f} nT "
+                       f"(ask for a finer one with max_field_step_nT)")
+    return out
 
 
 def pack_differences(plan: Plan, inp: PlanInputs):
@@ -594,6 +839,7 @@ def design_from_plan(plan: Plan, inp: PlanInputs, site=None, ambient=None):
             lead_length_m=inp.lead_length_m if inp.lead_length_m > 0 else None,
             frame_width_m=inp.frame.width_m,
             frame_depth_m=inp.frame.depth_m,
+            frame_size_m=(a.frame_pair or a.pair).size_m,
         ))
     lay = plan.layout
     site_obj = None
@@ -638,6 +884,7 @@ def design_from_plan(plan: Plan, inp: PlanInputs, site=None, ambient=None):
         "frame_width_m": inp.frame.width_m,
         "frame_depth_m": inp.frame.depth_m,
         "frame_gap_m": inp.frame.gap_m,
+        "winding_position": WINDING_POSITION,
         "fits_room": lay.fits_room,
         "total_power_W": plan.total_power_W,
         "copper_mass_kg": plan.copper_mass_kg,

@@ -70,12 +70,15 @@ class Requirement:
     uniformity: largest allowed |B(p) - B(0)| / |B(0)| over the box, each axis driven alone.
     extra_field_uT: field each axis must add beyond nulling its ambient component, both signs.
     shape: "square", "round" or "either".
+    max_field_step_nT: largest field step one supply current step may give (a constraint on
+        the planner only when given; otherwise the step that results is reported).
     """
 
     test_volume_m: tuple[float, float, float] = (0.3, 0.3, 0.3)
     uniformity: float = 0.001
     extra_field_uT: tuple[float, float, float] = (100.0, 100.0, 100.0)
     shape: str = "either"
+    max_field_step_nT: float | None = None
 
 
 @dataclass(frozen=True)
@@ -134,7 +137,7 @@ _TABLE_KEYS = {
     "location": ("latitude_deg", "longitude_deg", "altitude_m"),
     "orientation": ("heading_deg", "heading_reference"),
     "room": ("length_m", "width_m", "height_m", "clearance_m"),
-    "requirement": ("test_volume_m", "uniformity", "extra_field_uT", "shape"),
+    "requirement": ("test_volume_m", "uniformity", "extra_field_uT", "shape", "max_field_step_nT"),
     "coil": (
         "frame_width_m",
         "frame_depth_m",
@@ -358,6 +361,8 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
         extra_field_uT=r.triple(req_t, "extra_field_uT", "requirement.", default=Requirement.extra_field_uT,
                                 allow_scalar=True, nonnegative=True, hi=100_000.0),
         shape=r.text(req_t, "shape", "requirement.", default=Requirement.shape, choices=("square", "round", "either")),
+        max_field_step_nT=(r.number(req_t, "max_field_step_nT", "requirement.", positive=True, lo=1e-6, hi=1e9)
+                           if "max_field_step_nT" in req_t else None),
     )
     if room is not None:
         inner = (room.length_m - 2 * room.clearance_m, room.width_m - 2 * room.clearance_m,

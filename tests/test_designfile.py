@@ -70,7 +70,7 @@ def _full_example():
         entry = obj["axes"][axis]
         entry["wire"] = "AWG 18"
         for k, name in enumerate(OPTIONAL_AXIS_NUMBERS):
-            entry[name] = 0.1 + 1.37 * (k + 1) * (i + 1)
+            entry[name] = 0.1 + 1.2 * (k + 1) * (i + 1)  # all under the 50 m sanity limit
     obj["site"] = {"name": "Test hall", "lat_deg": 52.1, "tags": ["a", {"b": None}]}
     obj["requirement"] = {"test_volume_m": [0.3, 0.3, 0.3], "uniformity": 0.001}
     obj["layout"] = {"nesting": ["z", "y", "x"], "clearance_m": 0.02}

@@ -113,7 +113,7 @@ def test_too_few_turns_fit_a_tiny_channel(run_cli, tmp_path):
                  ('wires = ["AWG 14", "AWG 16", "AWG 18", "1.5 mm"]', 'wires = ["AWG 14"]'))
     msg = _design_fails(run_cli, tmp_path, path, "3 x 3 mm frame channel")
     m = re.search(r"the (\w) axis needs ([\d.]+) uT; within the supply's 5 A that takes at least (\d+) turns of "
-                  r"AWG 14 per coil, but only (\d+) fit", msg)
+                  r"AWG 14 per coil on a [\d.]+ m side, but only (\d+) fit", msg)
     assert m, msg
     need_uT, at_least, fit = float(m[2]), int(m[3]), int(m[4])
     assert need_uT == pytest.approx(_needed_nT(path, m[1]) / 1000.0, abs=0.051)

@@ -114,7 +114,7 @@ def test_weaker_supply_never_gives_fewer_turns(box, tol, wire, strong, weaker, s
     weak = plan_inputs_from_site(weak_site, weak_site.measured.field_nT, minimise=minimise)
     for pa in a.axes:
         # The same coils (geometry and wire) driven from the weaker supply.
-        result = choose_winding(pa.pair.axis, pa.pair, weak, pa.min_uniform_size_m)
+        result = choose_winding(pa.pair.axis, pa.frame_pair, weak, pa.min_uniform_size_m)
         if result.plan is None:
             continue  # the weaker supply cannot drive these coils at all: not fewer turns
         assert result.plan.wire == pa.wire == wire
@@ -122,10 +122,11 @@ def test_weaker_supply_never_gives_fewer_turns(box, tol, wire, strong, weaker, s
 
 
 def test_weaker_supply_fixed_case_adds_turns():
-    # A fixed case that must move: half the current needs more turns on every axis.
+    # A fixed case that must move: least copper takes the fewest turns that reach the field, so
+    # half the current needs more turns on every axis.
     kwargs = dict(shape="square", wires=("AWG 12",), axis_order=("y", "x", "z"))
-    a = plan(make_site((0.25, 0.25, 0.25), 2e-3, max_current_A=8.0, **kwargs))
-    b = plan(make_site((0.25, 0.25, 0.25), 2e-3, max_current_A=4.0, **kwargs))
+    a = plan(make_site((0.25, 0.25, 0.25), 2e-3, max_current_A=8.0, **kwargs), "mass")
+    b = plan(make_site((0.25, 0.25, 0.25), 2e-3, max_current_A=4.0, **kwargs), "mass")
     assert a is not None and b is not None
     assert all(pb.pair.turns > pa.pair.turns for pa, pb in zip(a.axes, b.axes))
 
@@ -144,3 +145,42 @@ def test_tighter_uniformity_fixed_case_grows_the_pair(axis, shape):
     loose, _ = min_uniform_size_m(axis, shape, (0.3, 0.3, 0.3), 5e-3)
     tight, _ = min_uniform_size_m(axis, shape, (0.3, 0.3, 0.3), 5e-4)
     assert tight > 1.2 * loose
+
+
+# A bigger supply must never give a worse design or none (at equal voltage and current step):
+# with more current the same windings stay feasible, so the least power can only fall. The
+# smallsat-like supplies of 5, 20, 40, 60 and 100 A at 30 V are the fixed case (a rule tying
+# the full-range current to the supply's maximum once made 40 A and above "infeasible").
+def test_more_supply_current_never_more_power_fixed_case():
+    shape = "either"
+    powers = []
+    for amps in (5.0, 40.0, 100.0):
+        p = plan(make_site((0.25, 0.25, 0.25), 1e-3, shape=shape, max_current_A=amps, max_voltage_V=30.0,
+                           wires=("AWG 14", "AWG 16", "AWG 18")))
+        assert p is not None, amps
+        powers.append(p.total_power_W)
+    assert all(b <= a * (1 + 1e-9) for a, b in zip(powers, powers[1:])), powers
+
+
+@settings(max_examples=5, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(box=volumes, tol=tolerances, amps=st.floats(1.0, 20.0), more=st.floats(1.05, 10.0),
+       volts=st.floats(10.0, 60.0), shape=st.sampled_from(["square", "round"]))
+def test_more_supply_current_never_more_power(box, tol, amps, more, volts, shape):
+    kwargs = dict(shape=shape, wires=("AWG 12", "AWG 16"), max_voltage_V=round(volts, 1))
+    small = plan(make_site(box, tol, max_current_A=round(amps, 2), **kwargs))
+    big = plan(make_site(box, tol, max_current_A=round(amps * more, 2), **kwargs))
+    if small is not None:
+        assert big is not None
+        assert big.total_power_W <= small.total_power_W * (1 + 1e-9)
+
+
+def test_axis_order_is_the_nesting_order_outside_in():
+    # The site's axis_order is honoured: each pair at least as wide as every pair listed after
+    # it (half side of a square, radius of a round pair), and the plan says so.
+    for order in (("x", "y", "z"), ("z", "x", "y")):
+        p = plan(make_site((0.3, 0.2, 0.25), 2e-3, shape="either", axis_order=order))
+        assert p is not None
+        assert p.order == order
+        widths = [p.frame_cage.pairs["xyz".index(a)].half_width_m for a in order]
+        assert widths[0] >= widths[1] >= widths[2], (order, widths)
+        assert any("axis_order" in n and ", ".join(order) in n for n in p.notes)
