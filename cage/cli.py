@@ -497,22 +497,29 @@ def _number_or(value, default):
     return v if math.isfinite(v) else default
 
 
-def _table(design, site, ctx: _Context, targets):
+def _table(design, site, ctx: _Context, targets, times=(None, None)):
+    """The current table; times: (start time of each row (s), hold time (s)) of a sequence."""
     from cage.setpoints import setpoint_table
 
     return setpoint_table(design, ctx.ambient_nT, ctx.supplies, targets, site=site.name, date=site.date,
                           source=ctx.source, coupling_nT_per_A=ctx.coupling, ambient_temperature_C=ctx.ambient_C,
-                          max_winding_temperature_C=ctx.max_C, warnings=ctx.warnings)
+                          max_winding_temperature_C=ctx.max_C, warnings=ctx.warnings, t_s=times[0],
+                          dwell_s=times[1])
 
 
 def _flag_rows(table, limit: int = 10):
     """Add one warning naming the rows outside the supplies' limits."""
-    bad = [r.label for r in table.rows if not r.within_limits]
+    import numpy as np
+
+    from cage.escape import for_terminal
+
+    bad = [table.labels[k] for k in np.flatnonzero(~table.within_limits)]
     if not bad:
         return table
     more = "" if len(bad) <= limit else f" and {len(bad) - limit} more"
     return dataclasses.replace(table, warnings=table.warnings + (
-        f"{len(bad)} rows outside the supplies' limits (flagged, not clipped): {', '.join(bad[:limit])}{more}",))
+        f"{len(bad)} rows outside the supplies' limits (flagged, not clipped): "
+        f"{', '.join(for_terminal(b) for b in bad[:limit])}{more}",))
 
 
 def build_setpoints(design, site, *, targets_file=None, calibration_file=None):
@@ -536,24 +543,40 @@ def build_setpoints(design, site, *, targets_file=None, calibration_file=None):
 
 
 def setpoints_text(table) -> str:
-    """A readable table of the setpoints (rounded; the files keep full precision)."""
-    lines = [f"Current table for {table.site} ({table.source} field, {table.date})",
+    """A readable table of the setpoints (rounded; the files keep full precision).
+
+    The currents are the setpoints as each supply sees them (non-negative on a unipolar
+    channel, whose polarity is in the limits column); user text is escaped for the terminal.
+    """
+    import numpy as np
+
+    from cage.escape import for_terminal
+
+    lines = [f"Current table for {for_terminal(table.site)} ({table.source} field, {table.date})",
              "ambient (cage frame): " + ", ".join(f"{a} {v:,.1f} nT" for a, v in zip("xyz", table.ambient_cage_nT)),
              "",
              f"{'row':<10}{'target x, y, z (nT)':>32}{'I x (A)':>10}{'I y (A)':>10}{'I z (A)':>10}"
              f"{'V max (V)':>10}{'power (W)':>10}{'rounding (nT)':>14}  limits"]
-    for r in table.rows:
-        target = ", ".join(f"{v:.1f}" for v in r.target_cage_nT)
-        cur = "".join(f"{a.setpoint_A:>10.{_decimals_for(s)}f}" for a, s in zip(r.axes, table.supplies))
-        volts = [abs(a.voltage_V) for a in r.axes if a.voltage_V is not None]
-        vmax = f"{max(volts):>10.2f}" if volts else f"{'-':>10}"
-        power = f"{r.total_power_W:>10.1f}" if r.total_power_W is not None else f"{'-':>10}"
-        flag = "ok" if r.within_limits else "OUTSIDE: " + "; ".join(
-            f"{ax}: {p}" for ax, a in zip("xyz", r.axes) for p in a.problems)
-        switch = [ax for ax, a in zip("xyz", r.axes) if a.polarity_switch]
-        if switch:
-            flag += f" (reverse polarity on {', '.join(switch)})"
-        lines.append(f"{r.label:<10}{target:>32}{cur}{vmax}{power}{r.rounding_error_nT:>14.1f}  {flag}")
+    sp = table.supply_setpoint_A
+    with np.errstate(invalid="ignore"):
+        vmax = np.nanmax(np.where(np.isnan(table.voltage_V), -np.inf, np.abs(table.voltage_V)), axis=1)
+    reverse = table.polarity_reverse
+    unipolar = table.unipolar
+    within = table.within_limits
+    power = table.total_power_W
+    fmts = [f"%10.{_decimals_for(s)}f" for s in table.supplies]
+    for r in range(len(table)):
+        t = table.target_cage_nT[r]
+        target = f"{t[0]:.1f}, {t[1]:.1f}, {t[2]:.1f}"
+        cur = "".join(f % v for f, v in zip(fmts, sp[r]))
+        v = f"{vmax[r]:>10.2f}" if np.isfinite(vmax[r]) else f"{'-':>10}"
+        pw = f"{power[r]:>10.1f}" if np.isfinite(power[r]) else f"{'-':>10}"
+        flag = "ok" if within[r] else "OUTSIDE: " + for_terminal("; ".join(table.row_problems(r)))
+        if unipolar.any():
+            flag += " (polarity " + ", ".join(
+                f"{ax} {'REVERSE' if reverse[r, j] else 'forward'}" for j, ax in enumerate("xyz") if unipolar[j]) + ")"
+        lines.append(f"{for_terminal(table.labels[r]):<10}{target:>32}{cur}{v}{pw}{table.field_error_nT[r]:>14.1f}"
+                     f"  {flag}")
     return "\n".join(lines)
 
 
@@ -622,7 +645,7 @@ def setpoints(
     text = setpoints_text(table) + "\n" if kind == "table" else render(table, kind)
     if out is not None:
         write_text(out, text)
-        _say(f"Wrote {out} ({kind}, {len(table.rows)} rows)")
+        _say(f"Wrote {out} ({kind}, {len(table)} rows)")
     else:
         typer.echo(text, nl=False)
     if old is not None:
@@ -897,6 +920,8 @@ def sequence(
     out: Optional[Path] = typer.Option(None, "--out", help="File to write (atomically) instead of printing."),
     calibration: Optional[Path] = typer.Option(None, "--calibration", help="Calibration file from cage calibrate."),
     plot: Optional[Path] = typer.Option(None, "--plot", help="Write the currents against time or row (PNG)."),
+    dwell_s: float = typer.Option(1.0, "--dwell-s", help="Hold time of each --sphere direction (s); a series "
+                                                         "holds each row 1 / --rate-Hz."),
 ):
     """Setpoint tables for a sphere of field directions or a replayed time series of fields."""
     import numpy as np
@@ -921,9 +946,12 @@ def sequence(
             raise InputError("--sphere needs --magnitude-uT, a positive field in microtesla (at most 100000)")
         if not 1 <= sphere <= 100_000:
             raise InputError(f"--sphere must be a number of directions from 1 to 100000, got {sphere}")
+        if not (math.isfinite(dwell_s) and 0.001 <= dwell_s <= 86_400):
+            raise InputError(f"--dwell-s must be between 0.001 and 86400 seconds, got {dwell_s:g}")
         dirs = fibonacci_sphere(sphere)
         width = len(str(len(dirs)))
-        targets = [(f"dir-{i + 1:0{width}d}", 1000.0 * magnitude_uT * d) for i, d in enumerate(dirs)]
+        targets = ([f"dir-{i + 1:0{width}d}" for i in range(len(dirs))], 1000.0 * magnitude_uT * dirs)
+        times = (np.arange(len(dirs)) * dwell_s, dwell_s)
     else:
         from cage.measurements import read_field_series_csv
         from cage.sequence import resample_series
@@ -936,23 +964,24 @@ def sequence(
         t, field_nT = resample_series(data.t_s, data.field_nT, rate_Hz)
         if data.frame == "ned":
             field_nT = ned_to_cage(field_nT, ctx.amb.heading_true_deg)
-        targets = [(f"t={tk:.3f}s", f) for tk, f in zip(t, field_nT)]
+        targets = ([f"t={tk:.3f}s" for tk in t.tolist()], np.asarray(field_nT, dtype=float))
         dt = 1.0 / rate_Hz
-    table = _table(design_obj, site, ctx, targets)
+        times = (t - t[0], dt)
+    table = _table(design_obj, site, ctx, targets, times)
     warnings = list(table.warnings)
     if dt is not None:
         from cage.sequence import check_slew
         from cage.setpoints import flag_slew
 
         r_ohm, l_H = _axis_circuits(design_obj, table.supplies, site.coil.ambient_temperature_C, str(design_file))
-        currents = np.array([[a.setpoint_A for a in row.axes] for row in table.rows])
+        currents = table.setpoint_A
         check = check_slew(currents, dt, r_ohm, l_H, [s.max_voltage_V for s in table.supplies],
                            [s.max_current_A for s in table.supplies])
         table = flag_slew(table, check)
         if check.failing_steps:
-            shown = ", ".join(table.rows[k].label for k in check.failing_steps[:10])
+            shown = ", ".join(table.labels[k] for k in check.failing_steps[:10])
             more = "" if len(check.failing_steps) <= 10 else f" and {len(check.failing_steps) - 10} more"
-            warnings.append(f"{len(check.failing_steps)} of {len(table.rows)} steps cannot be followed at "
+            warnings.append(f"{len(check.failing_steps)} of {len(table)} steps cannot be followed at "
                             f"{rate_Hz:g} Hz: {shown}{more}")
     table = dataclasses.replace(table, warnings=tuple(warnings))
     if dt is None:
@@ -965,9 +994,9 @@ def sequence(
         from cage.atomicfile import write_bytes
         from cage.plots import png_bytes, sequence_figure
 
-        steps = np.arange(len(table.rows)) / rate_Hz if dt is not None else np.arange(len(table.rows), dtype=float)
-        failing = [k for k, r in enumerate(table.rows) if not r.within_limits]
-        fig = sequence_figure(steps, np.array([r.setpoint_A for r in table.rows]),
+        steps = np.arange(len(table)) / rate_Hz if dt is not None else np.arange(len(table), dtype=float)
+        failing = np.flatnonzero(~table.within_limits).tolist()
+        fig = sequence_figure(steps, table.setpoint_A,
                               [s.max_current_A for s in table.supplies], failing)
         if dt is None:
             for ax in fig.axes:
@@ -976,7 +1005,7 @@ def sequence(
         write_bytes(plot, png_bytes(fig))
     if out is not None:
         write_text(out, text)
-        _say(f"Wrote {out} ({kind}, {len(table.rows)} rows)")
+        _say(f"Wrote {out} ({kind}, {len(table)} rows)")
     else:
         typer.echo(text, nl=False)
     if plot is not None:

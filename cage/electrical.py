@@ -27,6 +27,7 @@ from cage.checks import positive_number as _positive
 from cage.errors import InputError
 from cage.inductance import gmd_layered_pack_m, pair_inductance, round_wire_correction_H
 from cage.thermal import (
+    AMBIENT_RANGE_C,
     CURRENT_DENSITY_LIMIT_A_PER_MM2,
     NATURAL_CONVECTION_W_PER_M2_K,
     steady_winding_temperature,
@@ -40,7 +41,6 @@ from cage.wires import (
 
 DEFAULT_LEAD_LENGTH_M = 6.0
 DEFAULT_AMBIENT_TEMPERATURE_C = 22.0
-AMBIENT_RANGE_C = (-50.0, 80.0)
 
 # Relative slack when counting how many wire diameters fit a width, so that a channel of
 # exactly k diameters holds k turns despite rounding.
@@ -171,6 +171,21 @@ def winding_pack(wire: Wire | str, turns: int, frame_width_m: float, frame_depth
     )
 
 
+def _perimeter_m(pair: CoilPair) -> float:
+    return 4.0 * pair.size_m if pair.shape == "square" else 2.0 * math.pi * pair.size_m
+
+
+def _pack_surface_m2(pack: WindingPack, perimeter_m: float) -> float:
+    # all four faces of the pack's cross-section, times the turn length, for both coils
+    return 2.0 * 2.0 * (pack.width_m + pack.depth_m) * perimeter_m
+
+
+def cooling_surface_m2(pair: CoilPair, wire: Wire | str, frame_width_m: float, frame_depth_m: float) -> float:
+    """Surface (m^2) both windings of ``pair`` shed their heat from (see the module notes)."""
+    pack = winding_pack(_as_wire(wire), pair.turns, frame_width_m, frame_depth_m)
+    return _pack_surface_m2(pack, _perimeter_m(pair))
+
+
 def axis_electrics(
     pair: CoilPair,
     wire: Wire | str,
@@ -215,7 +230,7 @@ def axis_electrics(
         ambient = math.nan
     if not AMBIENT_RANGE_C[0] <= ambient <= AMBIENT_RANGE_C[1]:
         raise InputError(
-            f"ambient_temperature_C must be between {AMBIENT_RANGE_C[0]:g} and {AMBIENT_RANGE_C[1]:g}, "
+            f"coil.ambient_temperature_C (room air) must be between {AMBIENT_RANGE_C[0]:g} and {AMBIENT_RANGE_C[1]:g}, "
             f"got {ambient_temperature_C!r}"
         )
     h = _positive(heat_transfer_W_per_m2_K, "heat_transfer_W_per_m2_K")
@@ -224,7 +239,7 @@ def axis_electrics(
     except InputError as exc:
         raise InputError(f"axis {pair.axis}: {exc}") from None
 
-    perimeter = 4.0 * size if pair.shape == "square" else 2.0 * math.pi * size
+    perimeter = _perimeter_m(pair)
     winding_length = 2.0 * n * perimeter
     r20 = winding_length * w.resistance_per_m_20C_ohm
     lead_r20 = leads * w.resistance_per_m_20C_ohm
@@ -241,7 +256,7 @@ def axis_electrics(
         round_wire_correction_H(perimeter, n, od, w.bare_diameter_m),
     )
 
-    surface = 2.0 * 2.0 * (pack.width_m + pack.depth_m) * perimeter
+    surface = _pack_surface_m2(pack, perimeter)
     steady = steady_winding_temperature(r20, current, surface, ambient, h)
     circuit_r = steady.resistance_ohm + lead_r_ambient
     if steady.converged:

@@ -20,6 +20,7 @@ from typing import Any
 
 from cage.errors import InputError
 from cage.supplies import Supply
+from cage.thermal import AMBIENT_RANGE_C
 
 AXES = ("x", "y", "z")
 
@@ -30,7 +31,7 @@ LONGITUDE_RANGE_DEG = (-180.0, 360.0)
 ALTITUDE_RANGE_M = (-1_000.0, 100_000.0)
 HEADING_RANGE_DEG = (-360.0, 360.0)
 ROOM_SIDE_RANGE_M = (0.1, 200.0)
-TEMPERATURE_RANGE_C = (-50.0, 250.0)
+TEMPERATURE_RANGE_C = (-50.0, 250.0)  # winding temperatures; room air: cage.thermal.AMBIENT_RANGE_C
 
 
 @dataclass(frozen=True)
@@ -399,7 +400,7 @@ def _read_coil(r: _Reader, t: dict) -> CoilSettings:
         max_winding_temperature_C=r.number(t, "max_winding_temperature_C", p, default=d.max_winding_temperature_C,
                                            lo=TEMPERATURE_RANGE_C[0], hi=TEMPERATURE_RANGE_C[1]),
         ambient_temperature_C=r.number(t, "ambient_temperature_C", p, default=d.ambient_temperature_C,
-                                       lo=TEMPERATURE_RANGE_C[0], hi=TEMPERATURE_RANGE_C[1]),
+                                       lo=AMBIENT_RANGE_C[0], hi=AMBIENT_RANGE_C[1]),
         wires=wires,
         lead_length_m=r.number(t, "lead_length_m", p, default=d.lead_length_m, nonnegative=True, lo=0.0, hi=10_000.0),
         axis_order=axis_order,
