@@ -560,6 +560,7 @@ def setpoints_text(table) -> str:
     sp = table.supply_setpoint_A
     with np.errstate(invalid="ignore"):
         vmax = np.nanmax(np.where(np.isnan(table.voltage_V), -np.inf, np.abs(table.voltage_V)), axis=1)
+    vmax = np.where(table.reachable.all(axis=1), vmax, np.nan)  # no maximum over an unreachable axis
     reverse = table.polarity_reverse
     unipolar = table.unipolar
     within = table.within_limits

@@ -38,6 +38,7 @@ from matplotlib.ticker import FixedLocator, FuncFormatter, MaxNLocator, NullLoca
 
 from cage.coils import AXES, CoilCage, check_cage
 from cage.errors import InputError
+from cage.escape import for_figure
 
 __all__ = [
     "FIG_WIDTH_IN",
@@ -739,10 +740,12 @@ def setpoints_figure(doc: dict) -> Figure:
         where = f"rows[{i}]"
         if not isinstance(row, dict):
             raise InputError(f"setpoints: {where} must be an object")
-        labels.append(str(row.get("label", f"row {i + 1}")))
+        labels.append(for_figure(row.get("label", f"row {i + 1}")))
         for j, a in enumerate(AXES):
             current[i, j] = _row_value(row, "current_A", a, where)
-            power[i, j] = _row_value(row, "power_W", a, where)
+            # null power: an unreachable axis (no steady state) or no electrical data; no bar
+            value = (row.get("power_W") or {}).get(a) if isinstance(row.get("power_W"), dict) else None
+            power[i, j] = math.nan if value is None else _row_value(row, "power_W", a, where)
         ok.append(bool(row.get("within_limits", True)))
     ok = np.array(ok)
     total = np.array([_num_or_nan(r.get("total_power_W")) for r in rows])
@@ -789,11 +792,12 @@ def setpoints_figure(doc: dict) -> Figure:
         ax_i.grid(True, axis="y", linewidth=0.4, alpha=0.5)
         ax_p.set_ylabel("power (W)")
         ax_p.grid(True, axis="y", linewidth=0.4, alpha=0.5)
-        pmax = float(max(power.max(), 1e-9))
+        pmax = float(max(np.nanmax(power, initial=0.0), 1e-9))
         ax_p.set_ylim(0.0, 1.22 * pmax)
         if nrow <= 16:
             for i in range(nrow):
-                ax_p.text(x[i], power[i].max() + 0.03 * pmax, f"{total[i]:.1f} W", ha="center",
+                ax_p.text(x[i], np.nanmax(power[i], initial=0.0) + 0.03 * pmax,
+                          f"{total[i]:.1f} W" if np.isfinite(total[i]) else "unreachable", ha="center",
                           va="bottom", fontsize=_FS["small"], rotation=90 if nrow > 8 else 0)
         ax_p.legend(handles=[Patch(color=AXIS_COLOURS[a], label=f"{a} power") for a in AXES]
                     + [Patch(facecolor="white", edgecolor="0.3", hatch="////",
@@ -808,9 +812,9 @@ def setpoints_figure(doc: dict) -> Figure:
                 tick.set_fontweight("bold")
         ax_p.set_xlim(-0.6, nrow - 0.4)
         ax_p.set_xlabel("setpoint row")
-        site = str(doc.get("site", ""))
-        when = str(doc.get("date", ""))
-        source = str(doc.get("source", ""))
+        site = for_figure(doc.get("site", ""))
+        when = for_figure(doc.get("date", ""))
+        source = for_figure(doc.get("source", ""))
         parts = [p for p in (site, when) if p]
         title = "Setpoints" + (": " + ", ".join(parts) if parts else "") + (f" ({source})" if source else "")
         ax_i.set_title(title, fontsize=_FS["title"])
