@@ -35,13 +35,20 @@ def _root() -> None:
 
 # ----------------------------------------------------------------------------- helpers
 
+def _visible(text) -> str:
+    """Text for the terminal: each line's control characters made visible (cage.escape)."""
+    from cage.escape import for_terminal
+
+    return "\n".join(for_terminal(line) for line in str(text).split("\n"))
+
+
 def _say(text: str = "") -> None:
-    typer.echo(text)
+    typer.echo(_visible(text))
 
 
 def _warn(text: str) -> None:
     if text:
-        typer.echo(text if text.startswith("warning") else f"warning: {text}", err=True)
+        typer.echo(_visible(text if text.startswith("warning") else f"warning: {text}"), err=True)
 
 
 def _dump_json(obj) -> str:
@@ -1011,7 +1018,7 @@ def sequence(
         typer.echo(text, nl=False)
     if plot is not None:
         # With a machine format on stdout, keep stdout clean: say it on stderr.
-        typer.echo(f"Wrote {plot}", err=out is None and kind != "table")
+        typer.echo(_visible(f"Wrote {plot}"), err=out is None and kind != "table")
 
 
 # ----------------------------------------------------------------------------- entry point
@@ -1021,7 +1028,7 @@ def main(argv: Optional[list[str]] = None) -> None:
     try:
         app(args=argv, prog_name="cage")
     except CageError as exc:
-        typer.echo(f"cage: {exc}", err=True)
+        typer.echo(f"cage: {_visible(exc)}".replace("\n", " "), err=True)
         sys.exit(exc.exit_code)
     except KeyboardInterrupt:
         typer.echo("cage: interrupted", err=True)
@@ -1031,6 +1038,6 @@ def main(argv: Optional[list[str]] = None) -> None:
     except Exception as exc:  # an unexpected failure: one line, the traceback only on request
         if os.environ.get("CAGE_DEBUG"):
             raise
-        typer.echo(f"cage: unexpected failure ({type(exc).__name__}: {exc}); set CAGE_DEBUG=1 for details",
+        typer.echo(f"cage: unexpected failure ({type(exc).__name__}: {_visible(exc)}); set CAGE_DEBUG=1 for details",
                    err=True)
         sys.exit(EXIT_UNEXPECTED)

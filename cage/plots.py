@@ -700,9 +700,13 @@ def compare_figure(rows, room_limit_m: float | None, tolerance: float) -> Figure
 
 def _axis_limit(doc: dict, axis: str) -> float:
     try:
-        return float(doc["supply_limits"][axis]["max_current_A"])
+        value = float(doc["supply_limits"][axis]["max_current_A"])
     except (KeyError, TypeError, ValueError):
         raise InputError(f"setpoints: supply_limits.{axis}.max_current_A is missing or not a number") from None
+    if not (math.isfinite(value) and 0 < value <= _PLOT_LIMITS["max_current_A"]):
+        raise InputError(f"setpoints: supply_limits.{axis}.max_current_A must be a positive number up to "
+                         f"{_PLOT_LIMITS['max_current_A']:g} A, got {value:g}")
+    return value
 
 
 def _bipolar(doc: dict, axis: str) -> bool:
@@ -720,7 +724,15 @@ def _row_value(row: dict, key: str, axis: str, where: str) -> float:
     v = _num_or_nan(value)
     if math.isnan(v):
         raise InputError(f"setpoints: {where}.{key}.{axis} must be a number, got {value!r}")
+    if abs(v) > _PLOT_LIMITS[key]:
+        raise InputError(f"setpoints: {where}.{key}.{axis} is {v:g}, beyond the {_PLOT_LIMITS[key]:g} a current "
+                         "table can hold")
     return v
+
+
+# Largest magnitudes a current table can hold (beyond them the document is damaged; figures
+# would overflow): 1 MA, 1 TW.
+_PLOT_LIMITS = {"current_A": 1e6, "max_current_A": 1e6, "power_W": 1e12, "total_power_W": 1e12}
 
 
 def setpoints_figure(doc: dict) -> Figure:
@@ -749,6 +761,7 @@ def setpoints_figure(doc: dict) -> Figure:
         ok.append(bool(row.get("within_limits", True)))
     ok = np.array(ok)
     total = np.array([_num_or_nan(r.get("total_power_W")) for r in rows])
+    total = np.where(np.abs(total) <= _PLOT_LIMITS["total_power_W"], total, np.nan)
     total = np.where(np.isfinite(total), total, power.sum(axis=1))
 
     nrow = len(rows)

@@ -194,7 +194,7 @@ def _norm(values) -> float | None:
     nums = [_number(v) for v in items]
     if any(n is None for n in nums):
         return None
-    return math.sqrt(sum(n * n for n in nums))
+    return math.hypot(*nums)  # no overflow for huge components
 
 
 def _table(headers: Sequence[str], rows: Sequence[Sequence[str]], numeric_from: int = 1,

@@ -220,6 +220,9 @@ def setpoint_table(design, ambient_cage_nT, supplies, targets, *, site: str = ""
                          "(target or calibration too large)")
     setpoint = np.column_stack([rounded_setpoints_A(current[:, j], s.resolution_A)
                                 for j, s in enumerate(supplies)]) if m else np.zeros((0, 3))
+    # Beyond about 1e300 A the step count overflows: such a current is far outside any
+    # limit anyway, so it is kept unrounded (and flagged below).
+    setpoint = np.where(np.isfinite(setpoint), setpoint, current)
     delta = setpoint - current
     with np.errstate(over="ignore", invalid="ignore"):
         per_axis_error = np.abs(delta) * np.linalg.norm(k, axis=0)[None, :]

@@ -31,6 +31,8 @@ LONGITUDE_RANGE_DEG = (-180.0, 360.0)
 ALTITUDE_RANGE_M = (-1_000.0, 100_000.0)
 HEADING_RANGE_DEG = (-360.0, 360.0)
 ROOM_SIDE_RANGE_M = (0.1, 200.0)
+MIN_TEST_VOLUME_SIDE_M = 0.001  # smaller than any probe; the planner's ratios need a real box
+MIN_RESOLUTION_A = 1e-9  # no supply sets current finer than a nanoampere
 TEMPERATURE_RANGE_C = (-50.0, 250.0)  # winding temperatures; room air: cage.thermal.AMBIENT_RANGE_C
 
 
@@ -292,6 +294,8 @@ def site_from_text(text: str, where: str = "site") -> Site:
         tree = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"{where}: TOML syntax error: {exc}") from None
+    except RecursionError:
+        raise InputError(f"{where}: TOML nested too deeply") from None
     return site_from_dict(tree, where)
 
 
@@ -346,6 +350,10 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
                                 allow_scalar=True, nonnegative=True, hi=100_000.0),
         shape=r.text(req_t, "shape", "requirement.", default=Requirement.shape, choices=("square", "round", "either")),
     )
+    for i, v in enumerate(requirement.test_volume_m):
+        if v < MIN_TEST_VOLUME_SIDE_M:
+            raise r.fail(f"requirement.test_volume_m[{i}]",
+                         f"must be at least {MIN_TEST_VOLUME_SIDE_M:g} m (a probe's size), got {v:g}")
     if room is not None:
         inner = (room.length_m - 2 * room.clearance_m, room.width_m - 2 * room.clearance_m,
                  room.height_m - 2 * room.clearance_m)
@@ -435,7 +443,7 @@ def _read_supplies(r: _Reader, value: Any) -> tuple[Supply, ...]:
             axis=axis,
             max_voltage_V=r.number(t, "max_voltage_V", p, positive=True, lo=0.0, hi=10_000.0),
             max_current_A=r.number(t, "max_current_A", p, positive=True, lo=0.0, hi=10_000.0),
-            resolution_A=r.number(t, "resolution_A", p, default=0.001, positive=True, lo=0.0, hi=100.0),
+            resolution_A=r.number(t, "resolution_A", p, default=0.001, positive=True, lo=MIN_RESOLUTION_A, hi=100.0),
             bipolar=bipolar,
             name=r.text(t, "name", p, default=""),
         )
