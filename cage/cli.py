@@ -840,6 +840,8 @@ def calibrate(
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of a table."),
     out: Optional[Path] = typer.Option(None, "--out", help="Calibration file to write (JSON), or with --suggest "
                                                           "the current set (CSV)."),
+    sensor_range_uT: float = typer.Option(100.0, "--sensor-range-uT", help="With --suggest: the magnetometer's "
+                                          "full scale per axis (uT); no suggested set takes it past 90 %."),
 ):
     """Fit the built cage from magnetometer readings: offset, coupling, corrected null currents."""
     from cage.atomicfile import write_text
@@ -858,8 +860,18 @@ def calibrate(
             supplies = [supply_for_axis(site.supplies, a) for a in "xyz"]
         except InputError as exc:
             raise InputError(f"{data_file}: {exc}") from None
-        currents = suggest_currents_A([s.max_current_A for s in supplies],
-                                      unipolar=[not s.bipolar for s in supplies])
+        if not (math.isfinite(sensor_range_uT) and 0.1 <= sensor_range_uT <= 1e7):
+            raise InputError(f"--sensor-range-uT must be between 0.1 and 1e7 uT, got {sensor_range_uT:g}")
+        tops, why = _suggest_tops(design_obj, site, supplies)
+        currents = suggest_currents_A(tops, fraction=1.0, unipolar=[not s.bipolar for s in supplies])
+        from cage.ambient import site_ambient
+        from cage.calibrate import sensor_range_scale
+
+        scale = sensor_range_scale(currents, design_coupling_nT_per_A(design_obj),
+                                   site_ambient(site).in_force_cage_nT, 1000.0 * sensor_range_uT)
+        currents = currents * scale
+        if scale < 1.0:
+            why.append(f"scaled to {scale:.0%} so no set takes the sensor past 90 % of {sensor_range_uT:g} uT")
         text = "current_x_A,current_y_A,current_z_A\n" + "".join(
             ",".join(f"{v:.4f}" for v in row) + "\n" for row in currents)
         if out is not None:
@@ -867,7 +879,8 @@ def calibrate(
             _say(f"Wrote {out} ({len(currents)} current sets, condition {design_condition_number(currents):.2f})")
         else:
             typer.echo(text, nl=False)
-            _warn(f"{len(currents)} current sets within 80 % of the supply limits; condition of the fit "
+            _warn(f"{len(currents)} current sets within 80 % of what each supply can drive at operating "
+                  f"temperature ({'; '.join(why)}); condition of the fit "
                   f"{design_condition_number(currents):.2f}. Record the field at each, in the cage frame.")
         return
     from cage.calibrate import build_check, calibration_summary, fit_calibration
@@ -886,6 +899,22 @@ def calibrate(
         _say(calibration_text(summary))
         if out is not None:
             _say(f"Wrote {out}; use it with: cage setpoints {design_file} SITE.toml --calibration {out}")
+
+
+def _suggest_tops(design_obj, site, supplies):
+    """Per axis: the largest calibration current, 80 % of what the supply can drive through
+    the winding at its operating temperature (voltage, not only the current limit)."""
+    from cage.setpoints import max_drivable_current_A
+
+    tops, why = [], []
+    for axis, a, s in zip("xyz", design_obj.axes, supplies):
+        drivable = max_drivable_current_A(a, s, site.coil.ambient_temperature_C, site.coil.max_winding_temperature_C)
+        if drivable <= 0.0:
+            raise InputError(f"axis {axis}: the supply cannot drive any current through this winding")
+        tops.append(0.8 * drivable)
+        why.append(f"{axis} up to {0.8 * drivable:.3f} A" + ("" if drivable >= s.max_current_A
+                                                             else " (voltage-limited)"))
+    return tops, why
 
 
 # ----------------------------------------------------------------------------- sequence

@@ -183,6 +183,69 @@ def _axis_circuit(axis_design, ambient_temperature_C: float) -> _AxisCircuit | N
     return None
 
 
+@dataclass(frozen=True, eq=False)
+class _AxisDriveArrays:
+    voltage_V: np.ndarray  # NaN where unreachable
+    power_W: np.ndarray
+    winding_temperature_C: np.ndarray  # NaN where unreachable or no thermal model
+    reachable: np.ndarray
+    runaway: np.ndarray
+
+
+def _axis_drive_arrays(circuit: _AxisCircuit, current_A: np.ndarray) -> _AxisDriveArrays:
+    """Voltage, power and steady winding temperature of one axis at many currents.
+
+    The closed form of :func:`cage.thermal.steady_winding_temperature`, over an array:
+    slope q = alpha I^2 R20 / G; runaway for q >= 1, else T = T_a + I^2 R(T_a) / (G (1 - q)).
+    """
+    i = np.asarray(current_A, dtype=float)
+    i2 = i * i
+    m = i.shape
+    if circuit.conductance_W_per_K is None:
+        r_total = np.full(m, circuit.resistance_20C_ohm)
+        ok = np.ones(m, dtype=bool)
+        runaway = np.zeros(m, dtype=bool)
+        t = np.full(m, np.nan)
+    else:
+        alpha = COPPER_TEMPERATURE_COEFFICIENT_PER_K
+        g, r20, ta = circuit.conductance_W_per_K, circuit.resistance_20C_ohm, circuit.ambient_temperature_C
+        r_amb = r20 * (1.0 + alpha * (ta - REFERENCE_TEMPERATURE_C))
+        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+            slope = alpha * i2 * r20 / g
+            t = ta + i2 * r_amb / (g * (1.0 - slope))
+        runaway = ~(slope < 1.0)
+        ok = ~runaway & (t <= TEMPERATURE_MODEL_CEILING_C)
+        t = np.where(ok, t, np.nan)
+        r_total = r20 * (1.0 + alpha * (t - REFERENCE_TEMPERATURE_C)) + circuit.lead_resistance_ohm
+    with np.errstate(over="ignore", invalid="ignore"):
+        voltage = np.where(ok, i * r_total, np.nan)
+        power = np.where(ok, i2 * r_total, np.nan)
+    return _AxisDriveArrays(voltage, power, t, ok, runaway)
+
+
+def max_drivable_current_A(axis_design, supply: Supply, ambient_temperature_C: float,
+                           max_winding_temperature_C: float | None = None, points: int = 4001) -> float:
+    """The largest |current| (A) up to ``supply.max_current_A`` that the supply can drive
+    through the axis at its steady operating temperature: voltage within ``max_voltage_V``,
+    the winding reachable and (if given) not above ``max_winding_temperature_C``.
+
+    Checked on ``points`` evenly spaced currents from 0; the answer is the last of the run
+    from zero that passes (voltage grows with current, so the run is the whole answer).
+    Without electrical data in the design the current limit alone is returned.
+    """
+    circuit = _axis_circuit(axis_design, ambient_temperature_C)
+    if circuit is None:
+        return float(supply.max_current_A)
+    grid = np.linspace(0.0, supply.max_current_A, points)
+    drive = _axis_drive_arrays(circuit, grid)
+    good = drive.reachable & (np.abs(drive.voltage_V) <= supply.max_voltage_V)
+    if max_winding_temperature_C is not None and circuit.conductance_W_per_K is not None:
+        good &= drive.winding_temperature_C <= max_winding_temperature_C
+    bad = np.flatnonzero(~good)
+    last = points - 1 if bad.size == 0 else bad[0] - 1
+    return float(grid[last]) if last >= 0 else 0.0
+
+
 def _as_targets(targets) -> tuple[tuple[str, ...], np.ndarray]:
     if isinstance(targets, tuple) and len(targets) == 2 and isinstance(targets[1], np.ndarray):
         labels, arr = targets
@@ -238,40 +301,26 @@ def setpoint_table(design, ambient_cage_nT, supplies, targets, *, site: str = ""
         for r in np.flatnonzero(mask):
             reasons.setdefault(int(r), [[], [], []])[j].append(text_of(int(r)))
 
-    alpha = COPPER_TEMPERATURE_COEFFICIENT_PER_K
     for j, (a, s) in enumerate(zip(design.axes, supplies)):
         i = setpoint[:, j]
         circuit = _axis_circuit(a, ambient_temperature_C)
         if circuit is not None:
-            i2 = i * i
-            if circuit.conductance_W_per_K is None:
-                r_total = np.full(m, circuit.resistance_20C_ohm)
-                ok_t = np.ones(m, dtype=bool)
-            else:
-                g = circuit.conductance_W_per_K
-                r20 = circuit.resistance_20C_ohm
-                ta = circuit.ambient_temperature_C
-                r_amb = r20 * (1.0 + alpha * (ta - REFERENCE_TEMPERATURE_C))
-                with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
-                    slope = alpha * i2 * r20 / g
-                    t = ta + i2 * r_amb / (g * (1.0 - slope))
-                ok_t = (slope < 1.0) & (t <= TEMPERATURE_MODEL_CEILING_C)
-                t = np.where(ok_t, t, np.nan)
+            drive = _axis_drive_arrays(circuit, i)
+            ok_t = drive.reachable
+            if circuit.conductance_W_per_K is not None:
+                t = drive.winding_temperature_C
                 temperature[:, j] = t
-                r_total = r20 * (1.0 + alpha * (t - REFERENCE_TEMPERATURE_C)) + circuit.lead_resistance_ohm
-                runaway = ~(slope < 1.0)
-                flag(runaway, j, lambda r: "unreachable: winding thermal runaway (no steady temperature)")
-                flag(~runaway & ~ok_t, j, lambda r: f"unreachable: winding would pass "
-                                                    f"{TEMPERATURE_MODEL_CEILING_C:g} C, beyond the model")
+                flag(drive.runaway, j, lambda r: "unreachable: winding thermal runaway (no steady temperature)")
+                flag(~drive.runaway & ~ok_t, j, lambda r: f"unreachable: winding would pass "
+                                                          f"{TEMPERATURE_MODEL_CEILING_C:g} C, beyond the model")
                 if max_winding_temperature_C is not None:
                     hot = ok_t & (t > max_winding_temperature_C)
                     axis_ok[:, j] &= ~hot
                     flag(hot, j, lambda r: f"winding {temperature[r, j]:.0f} C over {max_winding_temperature_C:g} C")
             reachable[:, j] = ok_t
             axis_ok[:, j] &= ok_t
-            with np.errstate(over="ignore", invalid="ignore"):
-                voltage[:, j] = np.where(ok_t, i * r_total, np.nan)
-                power[:, j] = np.where(ok_t, i2 * r_total, np.nan)
+            voltage[:, j] = drive.voltage_V
+            power[:, j] = drive.power_W
             v_head[:, j] = s.max_voltage_V - np.abs(voltage[:, j])
             over_v = v_head[:, j] < 0  # NaN compares False
             axis_ok[:, j] &= ~over_v
