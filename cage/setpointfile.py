@@ -55,43 +55,56 @@ def csv_header() -> list[str]:
     return cols + ["total_power_W", "field_error_nT", "within_limits", "problems"]
 
 
-_NAN_CELL = re.compile(r"(?<=,)(?:nan|-nan)(?=,|\n)")
+def _csv_cells(texts) -> list[str]:
+    """CSV cells of user texts; one pass over the joined column when nothing needs escaping."""
+    texts = list(texts)
+    joined = "\x1f".join(texts)
+    if (not _NEEDS_CSV_CARE.search(joined.replace("\x1f", "")) and '"' not in joined and "," not in joined
+            and not any(t[:1] in "=+-@ " or t[-1:] == " " for t in texts)):
+        return texts
+    return [_csv_cell(t) for t in texts]
 
 
-def _rows_text(fmt: str, columns: list) -> str:
-    """One line per row from ``fmt`` % (row values); NaN numbers become empty cells."""
-    text = "".join(fmt % row for row in zip(*columns))
-    return _NAN_CELL.sub("", text)
+_NEEDS_CSV_CARE = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029\u061c\u200e\u200f\u202a-\u202e\u2066-\u2069"
+                             "\ud800-\udfff]")
 
 
 def table_to_csv(table: SetpointTable) -> str:
+    """The CSV text; number columns formatted a whole column at a time (cage.columnformat)."""
+    from cage.columnformat import join_columns, number_column, text_column
+
     m = len(table)
-    none = [math.nan] * m
-    parts, columns = ["%s,%.6f,%.6f,%.1f,%.1f,%.1f"], [
-        [_csv_cell(lab) for lab in table.labels],
-        none if table.t_s is None else table.t_s.tolist(),
-        none if table.dwell_s is None else table.dwell_s.tolist(),
-        *(table.target_cage_nT[:, c].tolist() for c in range(3))]
+    none = np.full(m, np.nan)
+    cols = [number_column(none if table.t_s is None else table.t_s, 6),
+            number_column(none if table.dwell_s is None else table.dwell_s, 6)]
+    cols += [number_column(table.target_cage_nT[:, c], 1) for c in range(3)]
     polarity = table.polarity_words()
     supply_sp = table.supply_setpoint_A
     for j, s in enumerate(table.supplies):
         d = _decimals(s.resolution_A)
-        parts.append(f"%.{d + 1}f,%.{d}f,%.{d}f,%s,%.1f,%.3f,%.2f,%.{d}f,%.3f,%.1f")
-        columns += [table.current_A[:, j].tolist(), table.setpoint_A[:, j].tolist(), supply_sp[:, j].tolist(),
-                    polarity[:, j].tolist(), table.rounding_error_nT[:, j].tolist(), table.voltage_V[:, j].tolist(),
-                    table.power_W[:, j].tolist(), table.current_headroom_A[:, j].tolist(),
-                    table.voltage_headroom_V[:, j].tolist(), table.winding_temperature_C[:, j].tolist()]
-    parts.append("%.2f,%.1f,%s,%s\n")
+        cols += [number_column(table.current_A[:, j], d + 1), number_column(table.setpoint_A[:, j], d),
+                 number_column(supply_sp[:, j], d), text_column(polarity[:, j].tolist()),
+                 number_column(table.rounding_error_nT[:, j], 1), number_column(table.voltage_V[:, j], 3),
+                 number_column(table.power_W[:, j], 2), number_column(table.current_headroom_A[:, j], d),
+                 number_column(table.voltage_headroom_V[:, j], 3),
+                 number_column(table.winding_temperature_C[:, j], 1)]
+    cols += [number_column(table.total_power_W, 2), number_column(table.field_error_nT, 1),
+             text_column(np.where(table.within_limits, "yes", "no").tolist())]
+    middle = join_columns(cols) if m else []
     problems = [""] * m
     for r in table.problems:
         problems[r] = _csv_cell("; ".join(table.row_problems(r)))
-    columns += [table.total_power_W.tolist(), table.field_error_nT.tolist(),
-                np.where(table.within_limits, "yes", "no").tolist(), problems]
-    return ",".join(csv_text_cell(h) for h in csv_header()) + "\n" + _rows_text(",".join(parts), columns)
+    labels = _csv_cells(table.labels)
+    body = "".join(f"{lab},{mid},{prob}\n" for lab, mid, prob in zip(labels, middle, problems))
+    return ",".join(csv_text_cell(h) for h in csv_header()) + "\n" + body
 
 
 def table_to_json(table: SetpointTable) -> str:
-    return json.dumps(table_to_dict(table), indent=2, allow_nan=False) + "\n"
+    """The JSON document, indented, with one row per line (json's fast encoder per row)."""
+    doc = table_to_dict(table)
+    head = json.dumps({k: v for k, v in doc.items() if k != "rows"}, indent=2, allow_nan=False)
+    rows = ",\n".join("    " + json.dumps(r, allow_nan=False) for r in doc["rows"])
+    return head[:-2] + ',\n  "rows": [\n' + rows + ("\n" if rows else "") + "  ]\n}\n"
 
 
 def _voltage_limit(voltage, supply) -> float:

@@ -356,6 +356,7 @@ def table_to_dict(table: SetpointTable) -> dict:
     within = table.within_limits
     total = table.total_power_W
     polarity = table.polarity_words()
+    reverse = table.polarity_reverse
     supply_sp = table.supply_setpoint_A
     rows = []
     for r in range(len(table)):
@@ -375,7 +376,7 @@ def table_to_dict(table: SetpointTable) -> dict:
             "current_headroom_A": per_axis(table.current_headroom_A[r]),
             "voltage_headroom_V": per_axis(table.voltage_headroom_V[r]),
             "winding_temperature_C": per_axis(table.winding_temperature_C[r]),
-            "polarity_switch": dict(zip(AXES, (bool(v) for v in table.polarity_reverse[r]))),
+            "polarity_switch": dict(zip(AXES, (bool(v) for v in reverse[r]))),
             "reachable": dict(zip(AXES, (bool(v) for v in table.reachable[r]))),
             "problems": {ax: list(p) for ax, p in zip(AXES, reasons)},
             "total_power_W": _finite_or_none(total[r]),
