@@ -93,7 +93,7 @@ def _read_table(path, required: tuple[str, ...], optional: tuple[str, ...] = (),
     p = Path(path)
     text = read_text(p, what)
 
-    lines = text.splitlines()
+    lines = text.split("\n")  # only LF ends a line (read_text made CR and CRLF into LF)
     rows = []
     header = None
     header_line = 0

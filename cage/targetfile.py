@@ -29,7 +29,7 @@ class Target:
 def read_targets_csv(path) -> list[Target]:
     where = str(path)
     text = read_text(path, "targets file")
-    lines = [(n, line) for n, line in enumerate(text.splitlines(), 1) if line.strip() and not line.lstrip().startswith("#")]
+    lines = [(n, line) for n, line in enumerate(text.split("\n"), 1) if line.strip() and not line.lstrip().startswith("#")]
     if not lines:
         raise InputError(f"{where}: empty; expected a header {','.join(REQUIRED)}[,frame]")
     if len(lines) - 1 > MAX_ROWS:  # before any CSV parsing
