@@ -157,7 +157,11 @@ def table_to_scpi(table: SetpointTable) -> str:
         target = ", ".join(f"{a} {v:.1f} nT" for a, v in zip(AXES, table.target_cage_nT[r]))
         when = "" if table.t_s is None else f" at t = {table.t_s[r]:.3f} s"
         lines.append("")
-        lines.append(f"# row {one_line(table.labels[r])}{when}: target {target} (cage frame)")
+        needs = ""
+        if any(unipolar):
+            needs = "; polarity " + ", ".join(f"{ax} {'REVERSE' if polarity[r, j] else 'forward'}"
+                                              for j, ax in enumerate(AXES) if unipolar[j])
+        lines.append(f"# row {one_line(table.labels[r])}{when}: target {target} (cage frame){needs}")
         prefix = ""
         if not within[r]:
             lines.append(f"# OUTSIDE LIMITS, not sent: {one_line('; '.join(table.row_problems(r)))}")
@@ -166,14 +170,14 @@ def table_to_scpi(table: SetpointTable) -> str:
             ch = CHANNELS[axis]
             current = supply_sp[r, j]
             lines.append(f"{prefix}INST:NSEL {ch}")
-            if unipolar[j] and current != 0.0 and polarity[r, j] != reverse_now[j]:
+            # a row that is not sent changes nothing, so it never asks for a switch
+            if not prefix and unipolar[j] and current != 0.0 and polarity[r, j] != reverse_now[j]:
                 want = "REVERSE" if polarity[r, j] else "FORWARD"
-                lines.append(f"{prefix}CURR 0")
-                lines.append(f"{prefix}OUTP OFF")
+                lines.append("CURR 0")
+                lines.append("OUTP OFF")
                 lines.append(f"# {axis}: output is off at zero current: set the channel {ch} polarity switch to "
                              f"{want} now")
-                if not prefix:
-                    reverse_now[j] = bool(polarity[r, j])
+                reverse_now[j] = bool(polarity[r, j])
             lines.append(f"{prefix}VOLT {_voltage_limit(float(table.voltage_V[r, j]), s):.{VOLTAGE_DECIMALS}f}")
             lines.append(f"{prefix}CURR {current:.{decimals[j]}f}")
             lines.append(f"{prefix}OUTP ON")

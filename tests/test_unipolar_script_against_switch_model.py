@@ -93,7 +93,7 @@ def walk(script: str, rows: dict) -> Bench:
 
 TARGETS = "label,x_uT,y_uT,z_uT\n" + "".join(
     f"step-{k},{s * 30},{-s * 20},{(-1) ** (k // 2) * 25}\n"
-    for k, s in enumerate([1, -1, -1, 1, 0, 1, -1, 1, 1, -1]))
+    for k, s in enumerate([1, -1, -1, 1, 0, 1, -1, 1, 1, -1]) + "far,-2000,-2000,-2000\nafter-far,20,20,20\n")
 
 
 @pytest.fixture(scope="module")
@@ -115,6 +115,7 @@ def test_unipolar_script_never_switches_under_current_and_sets_the_right_sign(ru
     assert all(not lim["bipolar"] for lim in doc["supply_limits"].values())
     rows = {r["label"]: r for r in doc["rows"]}
     sent = [r for r in doc["rows"] if r["within_limits"]]
+    assert not rows["far"]["within_limits"]  # commented out: it must not ask for a switch either
     # the table really asks for both signs on every axis, so switches must happen
     for a in "xyz":
         signs = {r["setpoint_A"][a] > 0 for r in sent if r["setpoint_A"][a] != 0}
