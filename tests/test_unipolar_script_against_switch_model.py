@@ -93,7 +93,7 @@ def walk(script: str, rows: dict) -> Bench:
 
 TARGETS = "label,x_uT,y_uT,z_uT\n" + "".join(
     f"step-{k},{s * 30},{-s * 20},{(-1) ** (k // 2) * 25}\n"
-    for k, s in enumerate([1, -1, -1, 1, 0, 1, -1, 1, 1, -1]) + "far,-2000,-2000,-2000\nafter-far,20,20,20\n")
+    for k, s in enumerate([1, -1, -1, 1, 0, 1, -1, 1, 1, -1])) + "far,-2000,-2000,-2000\nafter-far,20,20,20\n"
 
 
 @pytest.fixture(scope="module")
