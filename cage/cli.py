@@ -943,6 +943,10 @@ def _axis_circuits(design_obj, supplies, ambient_C, where: str = "design file"):
     return np.array(r), np.array(ind)
 
 
+# Most rows a sequence table holds (README "Input limits"): each row keeps some 40 numbers.
+MAX_SEQUENCE_STEPS = 1_000_000
+
+
 @app.command()
 def sequence(
     design_file: Path = typer.Argument(..., help="Design file (JSON).", show_default=False),
@@ -998,6 +1002,10 @@ def sequence(
         if series_frame is not None and series_frame not in ("cage", "ned"):
             raise InputError(f"--series-frame must be cage or ned, got {series_frame!r}")
         data = read_field_series_csv(series, frame=series_frame)
+        steps = (float(data.t_s[-1]) - float(data.t_s[0])) * rate_Hz + 1
+        if steps > MAX_SEQUENCE_STEPS:
+            raise InputError(f"{series}: {data.t_s[-1] - data.t_s[0]:g} s at {rate_Hz:g} Hz gives {steps:,.0f} steps, "
+                             f"more than {MAX_SEQUENCE_STEPS:,}; lower --rate-Hz or split the series")
         t, field_nT = resample_series(data.t_s, data.field_nT, rate_Hz)
         if data.frame == "ned":
             field_nT = ned_to_cage(field_nT, ctx.amb.heading_true_deg)
