@@ -241,8 +241,11 @@ def check_scpi(text: str, supplies=None) -> None:
         raise ScpiCheckError(f"SCPI self-check: line {line_no} holds control character "
                              f"{one_line(bad_char.group())}; script not written")
     channel = None
+    passed = set()  # (channel, line) already found good: long scripts repeat their lines
     for n, line in enumerate(text.split("\n"), start=1):
         if line == "" or line.startswith("#"):
+            continue
+        if (channel, line) in passed:
             continue
         for name, form in _FORMS:
             m = form.fullmatch(line)
@@ -254,6 +257,7 @@ def check_scpi(text: str, supplies=None) -> None:
         if name == "INST:NSEL":
             channel = int(m.group(1))
             continue
+        passed.add((channel, line))
         if name in ("VOLT", "CURR"):
             if channel is None:
                 raise ScpiCheckError(f"SCPI self-check: line {n} sets {name} before any channel is selected")

@@ -197,3 +197,22 @@ def test_hostile_text_in_html_report():
     assert "<script>alert(1)</script>" in text  # shown as text
     # a unipolar channel: the supply setpoint is |I| with the polarity (issue: report table)
     assert "1.000\u00a0A, polarity REVERSE" in page
+
+
+def test_scpi_self_check_refuses_what_a_supply_must_not_get():
+    """The check is not a rubber stamp: injected commands, numbers past the limits (from the
+    issue: VOLT 500 and CURR 99 for a 30 V / 5 A supply, *RST), negative current on a
+    unipolar channel and stray control characters are all refused."""
+    from cage.setpointfile import ScpiCheckError, check_scpi
+
+    head = ("# channel 1 (x): max 30.0 V, 5.0 A, unipolar\n# channel 2 (y): max 30.0 V, 5.0 A, bipolar\n"
+            "# channel 3 (z): max 30.0 V, 5.0 A, bipolar\n")
+    good = head + "INST:NSEL 1\nVOLT 12.000\nCURR 1.000\nOUTP ON\nINST:NSEL 2\nCURR -1.000\n*WAI\n"
+    check_scpi(good)
+    for bad in ("INST:NSEL 1\nVOLT 500\n", "INST:NSEL 1\nCURR 99\n", "*RST\n", "INST:NSEL 1\nCURR -0.5\n",
+                "VOLT 1.0\n", "INST:NSEL 1\nVOLT 30.001\n", "# note\rVOLT 1\n", "INST:NSEL 4\n",
+                "INST:NSEL 1\nSOUR:CURR 1\n", "INST:NSEL 2\nCURR 5.0001\n"):
+        with pytest.raises(ScpiCheckError):
+            check_scpi(head + bad)
+    with pytest.raises(ScpiCheckError):
+        check_scpi("INST:NSEL 1\n")  # no stated limits: cannot be checked

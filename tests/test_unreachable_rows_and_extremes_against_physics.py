@@ -218,3 +218,10 @@ def test_suggested_calibration_sets_are_drivable_and_stay_in_the_sensor_range(ru
                 assert el.temperature_converged and abs(el.voltage_V) <= s.max_voltage_V
     run = run_cli("calibrate", design_path, SITE, "--suggest", "--sensor-range-uT", 10)
     assert_one_line_error(run, "sensor range", code=3)
+
+
+def test_a_sequence_too_long_is_refused_before_resampling(run_cli, large, tmp_path):
+    series = tmp_path / "series.csv"
+    series.write_text("t_s,x_nT,y_nT,z_nT\n0,0,0,0\n100000,1000,0,0\n")
+    run = run_cli("sequence", large[0], SITE, "--series", series, "--rate-Hz", 100, "--format", "csv")
+    assert_one_line_error(run, "1,000,000")
