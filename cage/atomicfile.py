@@ -6,6 +6,7 @@ no permission) become :class:`cage.errors.InputError` with the path named.
 from __future__ import annotations
 
 import os
+import stat
 import tempfile
 from pathlib import Path
 
@@ -20,6 +21,7 @@ def write_bytes(path: str | os.PathLike, data: bytes) -> Path:
         raise InputError(f"{target}: output folder {folder} does not exist")
     if target.is_dir():
         raise InputError(f"{target}: is a folder, not a file")
+    _refuse_special(target)
     try:
         fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
     except OSError as exc:
@@ -36,6 +38,21 @@ def write_bytes(path: str | os.PathLike, data: bytes) -> Path:
             pass
         raise InputError(f"{target}: cannot write ({exc.strerror})") from None
     return target
+
+
+def _refuse_special(target: Path) -> None:
+    """Refuse a target that exists and is not a regular file (device, FIFO, socket).
+
+    The rename that makes a write atomic would replace such a node with a plain file
+    (``--out /dev/null`` run as root would turn the null device into a file), so it is
+    never done: the user names a file path instead.
+    """
+    try:
+        mode = os.stat(target).st_mode
+    except OSError:
+        return
+    if not stat.S_ISREG(mode):
+        raise InputError(f"{target}: is not a regular file (a device, pipe or socket); give a file path")
 
 
 def write_text(path: str | os.PathLike, text: str) -> Path:

@@ -176,7 +176,12 @@ def _lin(coeffs, arrays):
     """sum(c * a) over the non-zero coefficients; None if all are zero (or arrays are None)."""
     out = None
     for c, a in zip(coeffs, arrays):
-        if c == 0.0 or a is None:
+        if a is None:
+            continue
+        if isinstance(c, np.ndarray):  # per-source coefficients of a batch (broadcast)
+            out = c * a if out is None else out + c * a
+            continue
+        if c == 0.0:
             continue
         if out is None:
             out = a if c == 1.0 else (-a if c == -1.0 else c * a)
@@ -335,32 +340,25 @@ def _j_series(m: np.ndarray) -> np.ndarray:
     return out
 
 
-def _loop_core(x, y, z, centre, normal, radius, current_A, bx, by, bz):
-    """Add the field of one circular loop to bx, by, bz (see the module docstring)."""
-    X = _vertex_rel(x, y, z, centre)[0]
-    n = tuple(float(c) for c in normal)
-    zl = _lin(n, X)
-    # rho vector = X - zl n, skipping what is exactly zero for an axis-aligned normal.
-    rho_v = []
-    for i in range(3):
-        if n[i] == 0.0:
-            rho_v.append(X[i])
-        elif abs(n[i]) == 1.0:
-            rho_v.append(None)
-        else:
-            rho_v.append(X[i] - n[i] * zl)
-    rho2 = _sumsq(rho_v)
-    if rho2 is None:
-        rho2 = np.zeros_like(zl)
+def _pick(value, idx):
+    """``value[idx]`` for a per-point array, ``value`` itself for a scalar."""
+    return value[idx] if isinstance(value, np.ndarray) else value
+
+
+def _loop_local(zl, rho2, R, coef):
+    """Axial field and B_rho / rho of circular loops in the loop's own cylindrical frame.
+
+    zl, rho2: axial coordinate and squared distance from the axis (1-D arrays, m, m^2);
+    R: radius (m), coef: mu0 I / pi (T m); each a scalar or an array like zl (a batch of
+    loops flattened with its points). Returns (B_axial, B_rho / rho), on-wire points zeroed.
+    """
     rho = np.sqrt(rho2)
-    R = radius
     z2 = zl * zl
     a2 = (R - rho) ** 2 + z2
     b2 = (R + rho) ** 2 + z2
     beta = np.sqrt(b2)
     m = (4.0 * R) * rho / b2
     E = ellipe(m)
-    coef = MU0_T_M_PER_A * current_A / math.pi
     common = (coef * R * R) / (a2 * beta)
     g = np.empty_like(m)  # 8 J / b^2
     bzl = np.empty_like(m)
@@ -380,13 +378,35 @@ def _loop_core(x, y, z, centre, normal, radius, current_A, bx, by, bz):
         a2b = a2[idx]
         g[idx] = 8.0 * ((1.0 - 0.5 * mb) * Eb - pb * Kb) / (mb * mb) / b2[idx]
         rb = rho[idx]
-        bracket = ((R - rb) * (R + rb) - z2[idx]) * Eb + a2b * Kb
-        bzl[idx] = (0.5 * coef) * bracket / (a2b * beta[idx])
+        Rb = _pick(R, idx)
+        bracket = ((Rb - rb) * (Rb + rb) - z2[idx]) * Eb + a2b * Kb
+        bzl[idx] = (0.5 * _pick(coef, idx)) * bracket / (a2b * beta[idx])
     brho_over_rho = common * zl * g
     close = a2 < ON_WIRE_M * ON_WIRE_M
     if close.any():
         bzl[close] = 0.0
         brho_over_rho[close] = 0.0
+    return bzl, brho_over_rho
+
+
+def _loop_core(x, y, z, centre, normal, radius, current_A, bx, by, bz):
+    """Add the field of one circular loop to bx, by, bz (see the module docstring)."""
+    X = _vertex_rel(x, y, z, centre)[0]
+    n = tuple(float(c) for c in normal)
+    zl = _lin(n, X)
+    # rho vector = X - zl n, skipping what is exactly zero for an axis-aligned normal.
+    rho_v = []
+    for i in range(3):
+        if n[i] == 0.0:
+            rho_v.append(X[i])
+        elif abs(n[i]) == 1.0:
+            rho_v.append(None)
+        else:
+            rho_v.append(X[i] - n[i] * zl)
+    rho2 = _sumsq(rho_v)
+    if rho2 is None:
+        rho2 = np.zeros_like(zl)
+    bzl, brho_over_rho = _loop_local(zl, rho2, radius, MU0_T_M_PER_A * current_A / math.pi)
     comps = (bx, by, bz)
     for i in range(3):
         if n[i] != 0.0:
@@ -507,3 +527,108 @@ def segment_field_T(points_m, starts_m, ends_m, currents_A) -> np.ndarray:
 
     out = _chunked(pts, CHUNK_POINTS, accumulate)
     return out[0] if single else out
+
+
+# ---------------------------------------------------------------------------------------------
+# Batches: many sources at once, summed per group (one group = one coil system of one sample)
+# ---------------------------------------------------------------------------------------------
+
+BATCH_ELEMENTS = 200_000
+"""Source-point pairs evaluated at once by the batch functions; bounds their working memory."""
+
+
+def _batch_args(points_m, arrays, groups, n_groups, what):
+    pts, _ = _as_points(points_m)
+    arrs = [np.atleast_1d(np.asarray(a, dtype=float)) for a in arrays]
+    n_src = arrs[0].shape[0]
+    grp = np.asarray(groups, dtype=np.intp).reshape(-1)
+    if grp.shape != (n_src,) or (n_src and (grp.min() < 0 or grp.max() >= n_groups)):
+        raise ValueError(f"{what}: groups must be {n_src} integers in 0..{n_groups - 1}")
+    for a in arrs:
+        if a.shape[0] != n_src or not np.all(np.isfinite(a)):
+            raise ValueError(f"{what}: every source array must have {n_src} finite rows")
+    return pts, arrs, grp
+
+
+def _add_by_group(out, grp, values):
+    """out[grp[i]] += values[i] along the first axis (reduceat when grp is sorted)."""
+    if grp.size > 1 and np.all(grp[1:] >= grp[:-1]):
+        starts = np.flatnonzero(np.r_[True, grp[1:] != grp[:-1]])
+        out[grp[starts]] += np.add.reduceat(values, starts, axis=0)
+    else:
+        np.add.at(out, grp, values)
+
+
+def segments_field_T(points_m, starts_m, ends_m, currents_A, groups, n_groups: int) -> np.ndarray:
+    """Fields (T) of many straight segments, summed per group: (n_groups, n_points, 3).
+
+    starts_m, ends_m: (s, 3) metres, current from start to end; currents_A: (s,) amperes;
+    groups: (s,) group index of each segment (e.g. one group per sampled coil system).
+    The same Hanson-Hirshman kernel as ``polygon_field_T``, vectorised over segments and
+    points together; a point within ON_WIRE_M of a segment gets nothing from that segment.
+    """
+    pts, (a, b, cur), grp = _batch_args(points_m, (starts_m, ends_m, currents_A), groups,
+                                        n_groups, "segments")
+    n_p = pts.shape[0]
+    out = np.zeros((int(n_groups), n_p, 3))
+    if n_p == 0 or a.shape[0] == 0:
+        return out
+    edges = b - a
+    lengths = np.sqrt(np.einsum("ij,ij->i", edges, edges))
+    keep = (lengths > 0) & (cur != 0.0)
+    a, b, cur, grp, edges, lengths = a[keep], b[keep], cur[keep], grp[keep], edges[keep], lengths[keep]
+    units = edges / lengths[:, None] if len(lengths) else edges
+    step = max(1, BATCH_ELEMENTS // n_p)
+    x, y, z = (pts[None, :, k] for k in range(3))
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
+        for s in range(0, a.shape[0], step):
+            e = min(a.shape[0], s + step)
+            col = lambda arr, k: arr[s:e, k:k + 1]  # noqa: E731
+            R1 = (x - col(a, 0), y - col(a, 1), z - col(a, 2))
+            R2 = (x - col(b, 0), y - col(b, 1), z - col(b, 2))
+            r1sq = _sumsq(R1)
+            r2sq = _sumsq(R2)
+            unit = (col(units, 0), col(units, 1), col(units, 2))
+            coef = (MU0_T_M_PER_A / (4.0 * math.pi)) * cur[s:e, None]
+            f, cross, near = _segment_core(R1, r1sq, np.sqrt(r1sq), r2sq, np.sqrt(r2sq), unit,
+                                           lengths[s:e, None], coef)
+            if near is not None:
+                f = np.where(near, 0.0, f)
+            g = grp[s:e]
+            _add_by_group(out, g, np.stack([f * cross[k] for k in range(3)], axis=-1))
+    return out
+
+
+def loops_field_T(points_m, centres_m, normals, radii_m, currents_A, groups, n_groups: int) -> np.ndarray:
+    """Fields (T) of many circular loops, summed per group: (n_groups, n_points, 3).
+
+    centres_m: (l, 3) metres; normals: (l, 3) (normalised here); radii_m, currents_A: (l,);
+    groups: (l,) group index of each loop. The same elliptic-integral kernel as
+    ``loop_field_T`` (``_loop_local``), vectorised over loops and points together.
+    """
+    pts, (c, nrm, rad, cur), grp = _batch_args(points_m, (centres_m, normals, radii_m, currents_A),
+                                               groups, n_groups, "loops")
+    n_p = pts.shape[0]
+    out = np.zeros((int(n_groups), n_p, 3))
+    if n_p == 0 or c.shape[0] == 0:
+        return out
+    size = np.linalg.norm(nrm, axis=1)
+    if np.any(size == 0) or np.any(rad <= 0):
+        raise ValueError("loops: normals must not be zero and radii must be positive")
+    nrm = nrm / size[:, None]
+    step = max(1, BATCH_ELEMENTS // n_p)
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore", under="ignore"):
+        for s in range(0, c.shape[0], step):
+            e = min(c.shape[0], s + step)
+            X = pts[None, :, :] - c[s:e, None, :]
+            n = nrm[s:e, None, :]
+            zl = np.einsum("lpk,lqk->lp", X, n)
+            rho_v = X - zl[:, :, None] * n
+            rho2 = np.einsum("lpk,lpk->lp", rho_v, rho_v)
+            shape = zl.shape
+            R = np.broadcast_to(rad[s:e, None], shape).ravel()
+            coef = np.broadcast_to((MU0_T_M_PER_A / math.pi) * cur[s:e, None], shape).ravel()
+            bzl, brho = _loop_local(zl.ravel(), rho2.ravel(), R, coef)
+            field = bzl.reshape(shape)[:, :, None] * n + brho.reshape(shape)[:, :, None] * rho_v
+            _add_by_group(out, grp[s:e], field)
+    return out

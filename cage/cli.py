@@ -402,11 +402,11 @@ def compare(
 def _load_checked_design(path: Path):
     """A design file that can be built: frames that do not collide, coils around the test volume."""
     from cage.designfile import design_to_dict, load_design
-    from cage.layout import geometry_problems
+    from cage.coillayout import design_geometry_problems
 
     design_obj = load_design(path)
     volume, _, frame, _ = _design_context(design_to_dict(design_obj))
-    problems = geometry_problems(design_obj.cage, frame, volume)
+    problems = design_geometry_problems(design_obj, frame, volume)
     if problems:
         raise InputError(f"{path}: {problems[0]}; was the design file edited?")
     return design_obj
@@ -923,22 +923,22 @@ def _axis_circuits(design_obj, supplies, ambient_C, where: str = "design file"):
     """Per axis: circuit resistance at full-range temperature (winding + leads) and inductance."""
     import numpy as np
 
-    from cage.electrical import axis_electrics
+    from cage.electrical import electrics_of
 
     r, ind = [], []
     for a, s in zip(design_obj.axes, supplies):
         if a.inductance_H is None:
-            raise InputError(f"{where}: axes.{a.pair.axis}.inductance_H is missing; a sequence needs it "
+            raise InputError(f"{where}: axes.{a.name}.inductance_H is missing; a sequence needs it "
                              f"(make the design with cage design)")
         if a.wire is not None and a.frame_width_m is not None and a.frame_depth_m is not None:
-            el = axis_electrics(a.pair, a.wire, a.max_current_A or s.max_current_A,
+            el = electrics_of(a.pair or a.coil_axis, a.wire, a.max_current_A or s.max_current_A,
                                 lead_length_m=a.lead_length_m or 0.0, frame_width_m=a.frame_width_m,
                                 frame_depth_m=a.frame_depth_m, ambient_temperature_C=ambient_C)
             r.append(el.circuit_resistance_ohm)
         elif a.resistance_hot_ohm is not None:
             r.append(a.resistance_hot_ohm)
         else:
-            raise InputError(f"{where}: axes.{a.pair.axis} has neither wire nor resistance_hot_ohm")
+            raise InputError(f"{where}: axes.{a.name} has neither wire nor resistance_hot_ohm")
         ind.append(a.inductance_H)
     return np.array(r), np.array(ind)
 
@@ -963,6 +963,10 @@ def sequence(
     plot: Optional[Path] = typer.Option(None, "--plot", help="Write the currents against time or row (PNG)."),
     dwell_s: float = typer.Option(1.0, "--dwell-s", help="Hold time of each --sphere direction (s); a series "
                                                          "holds each row 1 / --rate-Hz."),
+    orbit: Optional[Path] = typer.Option(None, "--orbit", help="Orbit series CSV from cage orbit (body frame "
+                                         "= cage frame), or - to read it from a pipe."),
+    latency_error_nT: float = typer.Option(10.0, "--latency-error-nT", help="With --orbit: the field error "
+                                           "(nT) the latency summary is worked out for."),
 ):
     """Setpoint tables for a sphere of field directions or a replayed time series of fields."""
     import numpy as np
@@ -971,8 +975,8 @@ def sequence(
     from cage.atomicfile import write_text
     from cage.setpointfile import render
 
-    if (sphere is None) == (series is None):
-        raise InputError("give exactly one of --sphere N (with --magnitude-uT) or --series FILE.csv")
+    if (sphere is not None) + (series is not None) + (orbit is not None) != 1:
+        raise InputError("give exactly one of --sphere N (with --magnitude-uT), --series FILE.csv or --orbit FILE.csv")
     design_obj = _load_checked_design(design_file)
     site = sitefile.load_site(site_file)
     kind = _infer_format(fmt, out)
@@ -1001,11 +1005,19 @@ def sequence(
             raise InputError(f"--rate-Hz must be a positive rate up to 100000 Hz, got {rate_Hz:g}")
         if series_frame is not None and series_frame not in ("cage", "ned"):
             raise InputError(f"--series-frame must be cage or ned, got {series_frame!r}")
-        data = read_field_series_csv(series, frame=series_frame)
+        if orbit is not None:
+            from cage.cmd_orbit import rate_lines, read_orbit_series
+
+            if series_frame not in (None, "cage"):
+                raise InputError("an orbit series is in the body frame, which is the cage frame; drop --series-frame")
+            data = read_orbit_series(orbit)
+            summary = rate_lines(data.t_s, data.field_nT, rate_Hz, latency_error_nT)
+        else:
+            data = read_field_series_csv(series, frame=series_frame)
         steps = (float(data.t_s[-1]) - float(data.t_s[0])) * rate_Hz + 1
         if steps > MAX_SEQUENCE_STEPS:
-            raise InputError(f"{series}: {data.t_s[-1] - data.t_s[0]:g} s at {rate_Hz:g} Hz gives {steps:,.0f} steps, "
-                             f"more than {MAX_SEQUENCE_STEPS:,}; lower --rate-Hz or split the series")
+            raise InputError(f"{orbit or series}: {data.t_s[-1] - data.t_s[0]:g} s at {rate_Hz:g} Hz gives "
+                             f"{steps:,.0f} steps, more than {MAX_SEQUENCE_STEPS:,}; lower --rate-Hz or split the series")
         t, field_nT = resample_series(data.t_s, data.field_nT, rate_Hz)
         if data.frame == "ned":
             field_nT = ned_to_cage(field_nT, ctx.amb.heading_true_deg)
@@ -1028,6 +1040,8 @@ def sequence(
             more = "" if len(check.failing_steps) <= 10 else f" and {len(check.failing_steps) - 10} more"
             warnings.append(f"{len(check.failing_steps)} of {len(table)} steps cannot be followed at "
                             f"{rate_Hz:g} Hz: {shown}{more}")
+    if orbit is not None:
+        warnings += [w for w in summary if w.startswith("warning")]
     table = dataclasses.replace(table, warnings=tuple(warnings))
     if dt is None:
         table = _flag_rows(table)
@@ -1053,9 +1067,22 @@ def sequence(
         _say(f"Wrote {out} ({kind}, {len(table)} rows)")
     else:
         typer.echo(text, nl=False)
+    if orbit is not None:
+        for line in summary:
+            if not line.startswith("warning"):
+                typer.echo(line, err=out is None and kind != "table")
     if plot is not None:
         # With a machine format on stdout, keep stdout clean: say it on stderr.
         typer.echo(_visible(f"Wrote {plot}"), err=out is None and kind != "table")
+
+
+# ----------------------------------------------------------------------------- commands in their own modules
+
+from cage import cmd_orbit as _cmd_orbit  # noqa: E402
+from cage import cmd_tolerance as _cmd_tolerance  # noqa: E402
+
+_cmd_tolerance.register(app)
+_cmd_orbit.register(app)
 
 
 # ----------------------------------------------------------------------------- entry point

@@ -384,14 +384,22 @@ def pack_vs_filament_difference(pair: CoilPair, pack: FilamentPack, box_m,
     wire-free box, so its largest magnitude is on the box surface: the six faces are sampled on
     an n_per_edge x n_per_edge grid (``cage.uniformity.box_points_m``).
     """
-    from cage.uniformity import box_points_m, deviation_of_field
-
     if not isinstance(pack, FilamentPack):
         raise InputError(f"pack must be a FilamentPack, got {type(pack).__name__}")
+    check_pair(pair)
+    return filaments_pack_difference(pair_filaments(pair), pair_filaments(pair, pack), pair.axis, box_m, n_per_edge)
+
+
+def filaments_pack_difference(filament: Filaments, packed: Filaments, axis: str, box_m,
+                              n_per_edge: int = 9) -> PackDifference:
+    """``PackDifference`` of one axis given as its one-filament and its winding-pack filaments
+    (per ampere), over the centred test box (faces sampled, see pack_vs_filament_difference)."""
+    from cage.uniformity import box_points_m, deviation_of_field
+
     pts = np.vstack([np.zeros((1, 3)), box_points_m(box_m, n_per_edge)])
-    b_fil = pair_field_T(pair, 1.0, pts)
-    b_pack = pair_field_T(pair, 1.0, pts, pack=pack)
-    i = AXES.index(pair.axis)
+    b_fil = filaments_field_T(filament, pts)
+    b_pack = filaments_field_T(packed, pts)
+    i = AXES.index(axis)
     ref = float(np.linalg.norm(b_fil[0]))
     diff = np.linalg.norm(b_pack - b_fil, axis=1) / ref
     return PackDifference(

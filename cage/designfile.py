@@ -1,4 +1,4 @@
-"""The design file: a JSON document describing the three coil pairs of a cage (SI units).
+"""The design file: a JSON document describing the three coil axes of a cage (SI units).
 
 Format (our own), ``"format": "cage-design"``, ``"version": 1``::
 
@@ -13,6 +13,20 @@ centreline) or ``radius_m`` (round: radius of the centreline), ``spacing_m`` (di
 the two coil planes) and ``turns`` (per coil). Optional per axis: ``wire`` (a name) and the
 positive numbers in ``OPTIONAL_AXIS_NUMBERS``. Optional top level, kept verbatim: ``site``,
 ``requirement``, ``layout`` (objects), ``envelope_m`` (a list of numbers), ``notes`` (text).
+
+Version 2 (written when an axis is not a pair; version 1 is still read and written for cages
+of pairs) describes every coil::
+
+    "axes": {"x": {"system": "four", "shape": "square",
+                   "coils": [{"position_m": -0.72, "turns": 52, "side_m": 1.42}, ...],
+                   "wire": "AWG 18", ...}, ...}
+
+Per axis, required: ``system`` (``cage.coilaxis.SYSTEM_NAMES``: "pair", "three", "four",
+"four-equal", or "custom" for any other list), ``shape`` and ``coils``: a list of
+``{"position_m": p, "turns": n, "side_m": s}`` (square) or ``{"position_m": p, "turns": n,
+"radius_m": r}`` (round), ``position_m`` the coil plane's signed distance from the cage centre
+along the axis (a pair is two coils). A named system must have its number of coils. The
+optional keys are those of version 1 (``inductance_H`` and the others are of the whole axis).
 
 Reading is strict: unknown keys are refused with the nearest known key suggested, and every
 problem is one line naming the file and the key path, e.g.
@@ -34,6 +48,7 @@ from pathlib import Path
 import numpy as np
 
 from cage.atomicfile import write_text
+from cage.coilaxis import SYSTEM_NAMES, AxisCage, Coil, CoilAxis, axis_cage_field_T, axis_from_pair, pair_from_axis
 from cage.coils import AXES, SHAPES, CoilCage, CoilPair, as_points_m, cage_field_T
 from cage.errors import InputError
 
@@ -52,7 +67,10 @@ __all__ = [
 ]
 
 FORMAT = "cage-design"
-VERSION = 1
+VERSION = 1  # written for a cage of pairs
+VERSION_COILS = 2  # written when an axis is not a pair (every coil listed)
+READ_VERSIONS = (1, 2)
+SYSTEM_COIL_COUNTS = {"pair": 2, "three": 3, "four": 4, "four-equal": 4}
 
 # Sanity limits: a value beyond these is a typing error, not a cage.
 MAX_LENGTH_M = 50.0
@@ -74,6 +92,8 @@ OPTIONAL_AXIS_NUMBERS = (
     "frame_depth_m",
 )
 _AXIS_KEYS = ("shape", "side_m", "radius_m", "spacing_m", "turns", "wire") + OPTIONAL_AXIS_NUMBERS
+_AXIS_KEYS_V2 = ("system", "shape", "coils", "wire") + OPTIONAL_AXIS_NUMBERS
+_COIL_KEYS = ("position_m", "turns", "side_m", "radius_m")
 _TOP_KEYS = ("format", "version", "axes", "site", "requirement", "layout", "envelope_m", "notes")
 _TOP_OBJECTS = ("site", "requirement", "layout")
 
@@ -96,9 +116,11 @@ def _optional_positive(value, what: str):
 
 @dataclass(frozen=True)
 class AxisDesign:
-    """One axis of a design: the coil pair and what is known about its winding and drive.
+    """One axis of a design: its coils and what is known about its winding and drive.
 
-    pair: the coil pair (its ``axis`` names the axis). wire: the wire's name.
+    pair: the coil pair (its ``axis`` names the axis), or None when the axis is not a pair.
+    coil_axis: every coil of the axis (``cage.coilaxis.CoilAxis``); made from ``pair`` when not
+    given. Give at least one of the two. wire: the wire's name.
     resistance_20C_ohm, resistance_hot_ohm: both windings at 20 degC / at the winding
     temperature (ohm). inductance_H: the series pair (H). time_constant_s: L / R (s).
     copper_mass_kg: both windings (kg). field_per_amp_nT: centre field per ampere (nT/A).
@@ -108,7 +130,7 @@ class AxisDesign:
     radially (m). Every number is positive and finite when present.
     """
 
-    pair: CoilPair
+    pair: CoilPair | None
     wire: str | None = None
     resistance_20C_ohm: float | None = None
     resistance_hot_ohm: float | None = None
@@ -122,15 +144,40 @@ class AxisDesign:
     lead_length_m: float | None = None
     frame_width_m: float | None = None
     frame_depth_m: float | None = None
+    coil_axis: CoilAxis | None = None
 
     def __post_init__(self):
-        if not isinstance(self.pair, CoilPair):
+        if self.pair is None and self.coil_axis is None:
+            raise InputError("AxisDesign needs a pair or a coil_axis")
+        if self.pair is not None and not isinstance(self.pair, CoilPair):
             raise InputError(f"AxisDesign.pair must be a CoilPair, got {type(self.pair).__name__}")
+        if self.coil_axis is None:
+            object.__setattr__(self, "coil_axis", axis_from_pair(self.pair))
+        elif not isinstance(self.coil_axis, CoilAxis):
+            raise InputError(f"AxisDesign.coil_axis must be a CoilAxis, got {type(self.coil_axis).__name__}")
+        elif self.pair is None and self.coil_axis.system == "pair":
+            object.__setattr__(self, "pair", pair_from_axis(self.coil_axis))
+        if self.pair is not None and self.pair.axis != self.coil_axis.axis:
+            raise InputError(f"AxisDesign: the pair is on axis {self.pair.axis!r}, the coils on {self.coil_axis.axis!r}")
         if self.wire is not None and not isinstance(self.wire, str):
-            raise InputError(f"axes.{self.pair.axis}.wire must be text, got {self.wire!r}")
+            raise InputError(f"axes.{self.name}.wire must be text, got {self.wire!r}")
         for name in OPTIONAL_AXIS_NUMBERS:
-            value = _optional_positive(getattr(self, name), f"axes.{self.pair.axis}.{name}")
+            value = _optional_positive(getattr(self, name), f"axes.{self.name}.{name}")
             object.__setattr__(self, name, value)
+
+    @property
+    def name(self) -> str:
+        """The cage axis, "x", "y" or "z"."""
+        return self.coil_axis.axis
+
+    @property
+    def system(self) -> str:
+        return self.coil_axis.system
+
+    @property
+    def is_pair(self) -> bool:
+        """True when the axis is a coil pair (``pair`` is set)."""
+        return self.pair is not None
 
 
 @dataclass(frozen=True)
@@ -153,15 +200,28 @@ class Design:
         if len(axes) != 3 or not all(isinstance(a, AxisDesign) for a in axes):
             raise InputError("Design.axes must be three AxisDesign, for x, y and z")
         for name, a in zip(AXES, axes):
-            if a.pair.axis != name:
-                raise InputError(f"Design.axes must be ordered x, y, z; found axis {a.pair.axis!r} "
+            if a.name != name:
+                raise InputError(f"Design.axes must be ordered x, y, z; found axis {a.name!r} "
                                  f"where {name!r} belongs")
         object.__setattr__(self, "axes", axes)
 
     @property
     def cage(self) -> CoilCage:
-        """The three coil pairs as a ``CoilCage``."""
+        """The three coil pairs as a ``CoilCage``; InputError when an axis is not a pair."""
+        for a in self.axes:
+            if a.pair is None:
+                raise InputError(f"axis {a.name} is a {a.system} coil system with {a.coil_axis.count} coils; "
+                                 f"this needs coil pairs on every axis")
         return CoilCage(x=self.axes[0].pair, y=self.axes[1].pair, z=self.axes[2].pair)
+
+    @property
+    def axis_cage(self) -> AxisCage:
+        """Every coil of the three axes as a ``cage.coilaxis.AxisCage``."""
+        return AxisCage(*(a.coil_axis for a in self.axes))
+
+    @property
+    def all_pairs(self) -> bool:
+        return all(a.pair is not None for a in self.axes)
 
     def axis(self, name: str) -> AxisDesign:
         """The axis named "x", "y" or "z"."""
@@ -268,26 +328,7 @@ class _Reader:
             self.fail(path, f"must be finite, got {_show(value)}")
         return value
 
-    def axis(self, value, name: str) -> AxisDesign:
-        path = f"axes.{name}"
-        obj = self.object(value, path)
-        self.check_keys(obj, path, _AXIS_KEYS)
-        if "shape" not in obj:
-            self.fail(f"{path}.shape", 'is missing (expected "square" or "round")')
-        shape = obj["shape"]
-        if shape not in SHAPES:
-            close = difflib.get_close_matches(str(shape).lower(), SHAPES, n=1) if isinstance(shape, str) else []
-            hint = f' (did you mean "{close[0]}"?)' if close else ""
-            self.fail(f"{path}.shape", f'must be "square" or "round", got {_show(shape)}{hint}')
-        size_key, other_key = ("side_m", "radius_m") if shape == "square" else ("radius_m", "side_m")
-        if other_key in obj:
-            self.fail(f"{path}.{other_key}", f"does not apply to a {shape} coil (give {size_key})")
-        for key in (size_key, "spacing_m", "turns"):
-            if key not in obj:
-                self.fail(f"{path}.{key}", "is missing")
-        size = self.number(obj[size_key], f"{path}.{size_key}", "m", MAX_LENGTH_M)
-        spacing = self.number(obj["spacing_m"], f"{path}.spacing_m", "m", MAX_LENGTH_M)
-        turns = self.turns(obj["turns"], f"{path}.turns")
+    def optional_axis_entries(self, obj, path: str) -> dict:
         extra = {}
         if "wire" in obj:
             wire = obj["wire"]
@@ -302,12 +343,91 @@ class _Reader:
                     extra[key] = self.number(obj[key], f"{path}.{key}", "m", MAX_LEAD_LENGTH_M)
                 else:
                     extra[key] = self.number(obj[key], f"{path}.{key}")
+        return extra
+
+    def shape(self, obj, path: str) -> str:
+        if "shape" not in obj:
+            self.fail(f"{path}.shape", 'is missing (expected "square" or "round")')
+        shape = obj["shape"]
+        if shape not in SHAPES:
+            close = difflib.get_close_matches(str(shape).lower(), SHAPES, n=1) if isinstance(shape, str) else []
+            hint = f' (did you mean "{close[0]}"?)' if close else ""
+            self.fail(f"{path}.shape", f'must be "square" or "round", got {_show(shape)}{hint}')
+        return shape
+
+    def position(self, value, path: str) -> float:
+        if isinstance(value, bool) or not isinstance(value, (int, float)) or not math.isfinite(value):
+            self.fail(path, f"must be a finite number of metres, got {_show(value)}")
+        if abs(value) > MAX_LENGTH_M:
+            self.fail(path, f"must be within {MAX_LENGTH_M:g} m of the centre, got {value!r}")
+        return float(value)
+
+    def axis_v2(self, value, name: str) -> AxisDesign:
+        path = f"axes.{name}"
+        obj = self.object(value, path)
+        self.check_keys(obj, path, _AXIS_KEYS_V2)
+        if "system" not in obj:
+            self.fail(f"{path}.system", f"is missing (expected one of {', '.join(SYSTEM_NAMES)})")
+        system = obj["system"]
+        if system not in SYSTEM_NAMES:
+            self.fail(f"{path}.system", f"must be one of {', '.join(SYSTEM_NAMES)}, got {_show(system)}")
+        shape = self.shape(obj, path)
+        if "coils" not in obj:
+            self.fail(f"{path}.coils", "is missing")
+        items = obj["coils"]
+        if not isinstance(items, list) or not items:
+            self.fail(f"{path}.coils", f"must be a list of coils, got {_show(items)}")
+        want = SYSTEM_COIL_COUNTS.get(system)
+        if want is not None and len(items) != want:
+            self.fail(f"{path}.coils", f"must hold {want} coils for the {system} system, got {len(items)}")
+        size_key, other_key = ("side_m", "radius_m") if shape == "square" else ("radius_m", "side_m")
+        coils = []
+        for i, item in enumerate(items):
+            cpath = f"{path}.coils[{i}]"
+            c = self.object(item, cpath)
+            self.check_keys(c, cpath, _COIL_KEYS)
+            if other_key in c:
+                self.fail(f"{cpath}.{other_key}", f"does not apply to a {shape} coil (give {size_key})")
+            for key in ("position_m", "turns", size_key):
+                if key not in c:
+                    self.fail(f"{cpath}.{key}", "is missing")
+            coils.append(Coil(self.position(c["position_m"], f"{cpath}.position_m"),
+                              self.turns(c["turns"], f"{cpath}.turns"),
+                              self.number(c[size_key], f"{cpath}.{size_key}", "m", MAX_LENGTH_M)))
+        for i in range(len(coils)):
+            for j in range(i + 1, len(coils)):
+                if coils[i].position_m == coils[j].position_m and coils[i].size_m == coils[j].size_m:
+                    self.fail(f"{path}.coils[{j}]", f"coincides with coils[{i}] (same plane and size)")
+        extra = self.optional_axis_entries(obj, path)
+        if "wire" in extra:
+            for i, c in enumerate(coils):
+                self.check_winding(f"{path}.coils[{i}]", extra["wire"], c.turns, extra.get("frame_width_m"),
+                                   extra.get("frame_depth_m"), wire_path=f"{path}.wire")
+        ax = CoilAxis(name, shape, system, tuple(coils))
+        pair = pair_from_axis(ax) if system == "pair" else None
+        return AxisDesign(pair=pair, coil_axis=ax, **extra)
+
+    def axis(self, value, name: str) -> AxisDesign:
+        path = f"axes.{name}"
+        obj = self.object(value, path)
+        self.check_keys(obj, path, _AXIS_KEYS)
+        shape = self.shape(obj, path)
+        size_key, other_key = ("side_m", "radius_m") if shape == "square" else ("radius_m", "side_m")
+        if other_key in obj:
+            self.fail(f"{path}.{other_key}", f"does not apply to a {shape} coil (give {size_key})")
+        for key in (size_key, "spacing_m", "turns"):
+            if key not in obj:
+                self.fail(f"{path}.{key}", "is missing")
+        size = self.number(obj[size_key], f"{path}.{size_key}", "m", MAX_LENGTH_M)
+        spacing = self.number(obj["spacing_m"], f"{path}.spacing_m", "m", MAX_LENGTH_M)
+        turns = self.turns(obj["turns"], f"{path}.turns")
+        extra = self.optional_axis_entries(obj, path)
         if "wire" in extra:
             self.check_winding(path, extra["wire"], turns, extra.get("frame_width_m"), extra.get("frame_depth_m"))
         pair = CoilPair(axis=name, shape=shape, size_m=size, spacing_m=spacing, turns=turns)
         return AxisDesign(pair=pair, **extra)
 
-    def check_winding(self, path: str, wire: str, turns: int, width_m, depth_m) -> None:
+    def check_winding(self, path: str, wire: str, turns: int, width_m, depth_m, wire_path: str | None = None) -> None:
         """The wire is one the catalogue knows and, with the frame given, the turns fit its channel."""
         from cage.electrical import winding_pack
         from cage.wires import wire_from_name
@@ -315,7 +435,7 @@ class _Reader:
         try:
             wire_from_name(wire)
         except InputError as exc:
-            self.fail(f"{path}.wire", f"is not usable: {exc}")
+            self.fail(wire_path or f"{path}.wire", f"is not usable: {exc}")
         if width_m is not None and depth_m is not None:
             try:
                 winding_pack(wire, turns, width_m, depth_m)
@@ -334,10 +454,11 @@ class _Reader:
             self.fail("format", f'must be "{FORMAT}", got {_show(obj["format"])}')
         self.check_keys(obj, "", _TOP_KEYS)
         if "version" not in obj:
-            self.fail("version", f"is missing (expected {VERSION})")
+            self.fail("version", f"is missing (expected {VERSION} or {VERSION_COILS})")
         version = obj["version"]
-        if isinstance(version, bool) or not isinstance(version, (int, float)) or version != VERSION:
-            self.fail("version", f"{_show(version)} is not supported (this program reads version {VERSION})")
+        if isinstance(version, bool) or not isinstance(version, (int, float)) or version not in READ_VERSIONS:
+            self.fail("version", f"{_show(version)} is not supported (this program reads versions "
+                                 f"{' and '.join(str(v) for v in READ_VERSIONS)})")
         if "axes" not in obj:
             self.fail("axes", "is missing")
         axes_obj = self.object(obj["axes"], "axes")
@@ -345,7 +466,8 @@ class _Reader:
         for name in AXES:
             if name not in axes_obj:
                 self.fail(f"axes.{name}", "is missing")
-        axes = tuple(self.axis(axes_obj[name], name) for name in AXES)
+        read_axis = self.axis if version == 1 else self.axis_v2
+        axes = tuple(read_axis(axes_obj[name], name) for name in AXES)
         extra = {}
         for key in _TOP_OBJECTS:
             if key in obj:
@@ -400,25 +522,41 @@ def load_design(path: str | os.PathLike) -> Design:
 # ---------------------------------------------------------------------------------------------
 
 
-def design_to_dict(design: Design) -> dict:
-    """The JSON-ready document of ``design`` (plain dicts, lists, floats at full precision)."""
+def design_to_dict(design: Design, version: int | None = None) -> dict:
+    """The JSON-ready document of ``design`` (plain dicts, lists, floats at full precision).
+
+    version: 1 (pairs only) or 2 (every coil); None writes 1 for a cage of pairs, else 2.
+    """
     if not isinstance(design, Design):
         raise InputError(f"expected a Design, got {type(design).__name__}")
+    if version is None:
+        version = VERSION if design.all_pairs else VERSION_COILS
+    if version not in READ_VERSIONS:
+        raise InputError(f"design file version must be one of {READ_VERSIONS}, got {version!r}")
+    if version == VERSION and not design.all_pairs:
+        raise InputError("a design file of version 1 holds coil pairs only; write version 2")
     axes = {}
     for a in design.axes:
-        pair = a.pair
-        entry = {"shape": pair.shape}
-        entry["side_m" if pair.shape == "square" else "radius_m"] = float(pair.size_m)
-        entry["spacing_m"] = float(pair.spacing_m)
-        entry["turns"] = int(pair.turns)
+        if version == VERSION:
+            pair = a.pair
+            entry = {"shape": pair.shape}
+            entry["side_m" if pair.shape == "square" else "radius_m"] = float(pair.size_m)
+            entry["spacing_m"] = float(pair.spacing_m)
+            entry["turns"] = int(pair.turns)
+        else:
+            ax = a.coil_axis
+            size_key = "side_m" if ax.shape == "square" else "radius_m"
+            entry = {"system": ax.system, "shape": ax.shape,
+                     "coils": [{"position_m": float(c.position_m), "turns": int(c.turns), size_key: float(c.size_m)}
+                               for c in ax.coils]}
         if a.wire is not None:
             entry["wire"] = a.wire
         for name in OPTIONAL_AXIS_NUMBERS:
             value = getattr(a, name)
             if value is not None:
                 entry[name] = float(value)
-        axes[pair.axis] = entry
-    out = {"format": FORMAT, "version": VERSION, "axes": axes}
+        axes[a.name] = entry
+    out = {"format": FORMAT, "version": version, "axes": axes}
     for f in fields(Design):
         if f.name == "axes":
             continue
@@ -428,18 +566,19 @@ def design_to_dict(design: Design) -> dict:
     return out
 
 
-def design_to_json(design: Design) -> str:
+def design_to_json(design: Design, version: int | None = None) -> str:
     """The design file's text: indented JSON, floats written with full precision."""
     try:
-        return json.dumps(design_to_dict(design), indent=2, allow_nan=False) + "\n"
+        return json.dumps(design_to_dict(design, version), indent=2, allow_nan=False) + "\n"
     except ValueError:
         raise InputError("design holds a NaN or infinite number; it cannot be written") from None
 
 
-def save_design(path: str | os.PathLike, design: Design) -> Path:
-    """Write ``design`` to ``path`` atomically (temporary file, then rename)."""
-    design_from_dict(design_to_dict(design), str(path))  # refuse to write what cannot be read
-    return write_text(path, design_to_json(design))
+def save_design(path: str | os.PathLike, design: Design, version: int | None = None) -> Path:
+    """Write ``design`` to ``path`` atomically (temporary file, then rename); version as
+    ``design_to_dict``."""
+    design_from_dict(design_to_dict(design, version), str(path))  # refuse to write what cannot be read
+    return write_text(path, design_to_json(design, version))
 
 
 # ---------------------------------------------------------------------------------------------
@@ -484,7 +623,7 @@ def field_T(design: Design, currents_A, points_m) -> np.ndarray:
     """Field in tesla of the whole cage of ``design`` at points in metres (cage frame).
 
     currents_A: a mapping with the keys x, y, z, or a sequence of three numbers, in amperes
-    (each axis's pair in series aiding; positive gives +axis at the centre).
+    (each axis's coils in series aiding; positive gives +axis at the centre).
     points_m: (n, 3) or (3,); the result has the same shape. Each coil's N turns are one
     filament on its centreline carrying N x I (exact Biot-Savart, ``cage.biot_savart``).
     """
@@ -492,5 +631,8 @@ def field_T(design: Design, currents_A, points_m) -> np.ndarray:
         raise InputError(f"expected a Design, got {type(design).__name__}")
     currents = _currents(currents_A)
     pts, single = as_points_m(points_m)
-    out = cage_field_T(design.cage, currents, pts)
+    if design.all_pairs:
+        out = cage_field_T(design.cage, currents, pts)
+    else:
+        out = axis_cage_field_T(design.axis_cage, currents, pts)
     return out[0] if single else out

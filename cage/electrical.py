@@ -171,19 +171,32 @@ def winding_pack(wire: Wire | str, turns: int, frame_width_m: float, frame_depth
     )
 
 
-def _perimeter_m(pair: CoilPair) -> float:
-    return 4.0 * pair.size_m if pair.shape == "square" else 2.0 * math.pi * pair.size_m
-
-
-def _pack_surface_m2(pack: WindingPack, perimeter_m: float) -> float:
-    # all four faces of the pack's cross-section, times the turn length, for both coils
-    return 2.0 * 2.0 * (pack.width_m + pack.depth_m) * perimeter_m
-
-
-def cooling_surface_m2(pair: CoilPair, wire: Wire | str, frame_width_m: float, frame_depth_m: float) -> float:
-    """Surface (m^2) both windings of ``pair`` shed their heat from (see the module notes)."""
-    pack = winding_pack(_as_wire(wire), pair.turns, frame_width_m, frame_depth_m)
-    return _pack_surface_m2(pack, _perimeter_m(pair))
+def _operating_inputs(axis: str, current_A, lead_length_m, ambient_temperature_C, heat_transfer_W_per_m2_K):
+    """Checked (current, lead length, ambient temperature, heat transfer) of one axis."""
+    try:
+        current = float(current_A)
+    except (TypeError, ValueError):
+        raise InputError(f"axis {axis}: current_A must be a number, got {current_A!r}") from None
+    if not math.isfinite(current):
+        raise InputError(f"axis {axis}: current_A must be finite, got {current_A!r}")
+    try:
+        leads = float(lead_length_m)
+    except (TypeError, ValueError):
+        leads = math.nan
+    if not math.isfinite(leads) or leads < 0.0:
+        raise InputError(f"axis {axis}: lead_length_m must be zero or positive, got {lead_length_m!r}")
+    try:
+        ambient = float(ambient_temperature_C)
+    except (TypeError, ValueError):
+        ambient = math.nan
+    if not AMBIENT_RANGE_C[0] <= ambient <= AMBIENT_RANGE_C[1]:
+        raise InputError(
+            f"coil.ambient_temperature_C (room air) must be between {AMBIENT_RANGE_C[0]:g} and "
+            f"{AMBIENT_RANGE_C[1]:g}, "
+            f"got {ambient_temperature_C!r}"
+        )
+    h = _positive(heat_transfer_W_per_m2_K, "heat_transfer_W_per_m2_K")
+    return current, leads, ambient, h
 
 
 def axis_electrics(
@@ -212,34 +225,14 @@ def axis_electrics(
     spacing = _positive(pair.spacing_m, f"axis {pair.axis}: coil spacing_m")
     n = _turns(pair.turns, f"axis {pair.axis}: turns")
     w = _as_wire(wire)
-    try:
-        current = float(current_A)
-    except (TypeError, ValueError):
-        raise InputError(f"axis {pair.axis}: current_A must be a number, got {current_A!r}") from None
-    if not math.isfinite(current):
-        raise InputError(f"axis {pair.axis}: current_A must be finite, got {current_A!r}")
-    try:
-        leads = float(lead_length_m)
-    except (TypeError, ValueError):
-        leads = math.nan
-    if not math.isfinite(leads) or leads < 0.0:
-        raise InputError(f"axis {pair.axis}: lead_length_m must be zero or positive, got {lead_length_m!r}")
-    try:
-        ambient = float(ambient_temperature_C)
-    except (TypeError, ValueError):
-        ambient = math.nan
-    if not AMBIENT_RANGE_C[0] <= ambient <= AMBIENT_RANGE_C[1]:
-        raise InputError(
-            f"coil.ambient_temperature_C (room air) must be between {AMBIENT_RANGE_C[0]:g} and {AMBIENT_RANGE_C[1]:g}, "
-            f"got {ambient_temperature_C!r}"
-        )
-    h = _positive(heat_transfer_W_per_m2_K, "heat_transfer_W_per_m2_K")
+    current, leads, ambient, h = _operating_inputs(pair.axis, current_A, lead_length_m, ambient_temperature_C,
+                                                   heat_transfer_W_per_m2_K)
     try:
         pack = winding_pack(w, n, frame_width_m, frame_depth_m)
     except InputError as exc:
         raise InputError(f"axis {pair.axis}: {exc}") from None
 
-    perimeter = _perimeter_m(pair)
+    perimeter = 4.0 * size if pair.shape == "square" else 2.0 * math.pi * size
     winding_length = 2.0 * n * perimeter
     r20 = winding_length * w.resistance_per_m_20C_ohm
     lead_r20 = leads * w.resistance_per_m_20C_ohm
@@ -256,7 +249,7 @@ def axis_electrics(
         round_wire_correction_H(perimeter, n, od, w.bare_diameter_m),
     )
 
-    surface = _pack_surface_m2(pack, perimeter)
+    surface = 2.0 * 2.0 * (pack.width_m + pack.depth_m) * perimeter
     steady = steady_winding_temperature(r20, current, surface, ambient, h)
     circuit_r = steady.resistance_ohm + lead_r_ambient
     if steady.converged:
@@ -315,3 +308,171 @@ def current_slew_A_per_s(electrics: AxisElectrics, max_voltage_V: float) -> floa
 def field_slew_nT_per_s(electrics: AxisElectrics, max_voltage_V: float, field_per_amp_nT: float) -> float:
     """Largest field slew in nT/s: the current slew times the axis's field per amp (nT/A)."""
     return current_slew_A_per_s(electrics, max_voltage_V) * abs(field_per_amp_nT)
+
+
+# ---------------------------------------------------------------------------------------------
+# Axes of any number of coils (cage.coilaxis.CoilAxis): all coils in series aiding
+# ---------------------------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class CoilElectrics:
+    """One coil of a multi-coil axis at the operating current.
+
+    position_m, turns: the coil. layers, turns_per_layer: its winding pack. wire_length_m:
+    its winding. resistance_20C_ohm, resistance_hot_ohm: at 20 degC and at its own steady
+    temperature. winding_temperature_C: that temperature (inf on runaway).
+    self_inductance_H: its self inductance. copper_mass_kg: its copper.
+    """
+
+    position_m: float
+    turns: int
+    layers: int
+    turns_per_layer: int
+    wire_length_m: float
+    resistance_20C_ohm: float
+    resistance_hot_ohm: float
+    winding_temperature_C: float
+    self_inductance_H: float
+    copper_mass_kg: float
+
+
+@dataclass(frozen=True)
+class CoilAxisElectrics(AxisElectrics):
+    """Electrical and thermal state of an axis of any number of coils in series: an
+    ``AxisElectrics`` (the same names mean the same whole-axis quantities) with per-coil figures.
+
+    coils: ``CoilElectrics`` per coil. turns, layers: the most of any coil.
+    winding_temperature_C: the hottest coil. mutual_inductance_H: the sum over all pairs of
+    coils of their mutual inductances (each pair counted once); inductance_H = sum of self +
+    2 x that sum. self_inductance_H: the sum of the coils' self inductances.
+    """
+
+    coils: tuple[CoilElectrics, ...] = ()
+
+
+def coil_axis_electrics(
+    axis,
+    wire: Wire | str,
+    current_A: float,
+    *,
+    lead_length_m: float = DEFAULT_LEAD_LENGTH_M,
+    frame_width_m: float,
+    frame_depth_m: float,
+    ambient_temperature_C: float = DEFAULT_AMBIENT_TEMPERATURE_C,
+    heat_transfer_W_per_m2_K: float = NATURAL_CONVECTION_W_PER_M2_K,
+) -> CoilAxisElectrics:
+    """Resistance, inductance, temperature and drive of a ``cage.coilaxis.CoilAxis`` at ``current_A``.
+
+    As ``axis_electrics``, coil by coil: each coil's wire length is its turns x its centreline
+    perimeter, its pack sits in its own frame channel, its steady temperature follows from its
+    own heat and surface; the series resistance is the sum. Inductance: every coil's Grover
+    self inductance (with Rosa's round-wire correction) plus twice every mutual inductance
+    between two coils of the axis (``cage.inductance.axis_inductance``). For a pair it gives
+    the numbers of ``axis_electrics``.
+    """
+    from cage.coilaxis import check_coil_axis, perimeter_m
+    from cage.inductance import axis_inductance
+
+    check_coil_axis(axis)
+    w = _as_wire(wire)
+    current, leads, ambient, h = _operating_inputs(axis.axis, current_A, lead_length_m, ambient_temperature_C,
+                                                   heat_transfer_W_per_m2_K)
+    od = w.outer_diameter_m
+    packs, perims, gmds, corrs = [], [], [], []
+    for c in axis.coils:
+        try:
+            pack = winding_pack(w, c.turns, frame_width_m, frame_depth_m)
+        except InputError as exc:
+            raise InputError(f"axis {axis.axis}, coil at {c.position_m:+.4g} m: {exc}") from None
+        per = perimeter_m(axis.shape, c.size_m)
+        packs.append(pack)
+        perims.append(per)
+        gmds.append(gmd_layered_pack_m(c.turns, pack.turns_per_layer, od))
+        corrs.append(round_wire_correction_H(per, c.turns, od, w.bare_diameter_m))
+    ind = axis_inductance(axis.shape, [c.size_m for c in axis.coils], [c.position_m for c in axis.coils],
+                          [c.turns for c in axis.coils], gmds, corrs)
+    alpha = COPPER_TEMPERATURE_COEFFICIENT_PER_K
+    lead_r20 = leads * w.resistance_per_m_20C_ohm
+    lead_r_ambient = lead_r20 * (1.0 + alpha * (ambient - REFERENCE_TEMPERATURE_C))
+    coils = []
+    converged = True
+    for c, pack, per, self_h in zip(axis.coils, packs, perims, ind.self_H):
+        length = c.turns * per
+        r20 = length * w.resistance_per_m_20C_ohm
+        surface = 2.0 * (pack.width_m + pack.depth_m) * per
+        steady = steady_winding_temperature(r20, current, surface, ambient, h)
+        converged = converged and steady.converged
+        coils.append(CoilElectrics(
+            position_m=float(c.position_m), turns=int(c.turns), layers=pack.layers,
+            turns_per_layer=pack.turns_per_layer, wire_length_m=length, resistance_20C_ohm=r20,
+            resistance_hot_ohm=steady.resistance_ohm, winding_temperature_C=steady.temperature_C,
+            self_inductance_H=self_h, copper_mass_kg=length * w.mass_per_m_kg))
+    r_hot = sum(c.resistance_hot_ohm for c in coils) if converged else math.inf
+    circuit_r = r_hot + lead_r_ambient
+    if converged:
+        power = current * current * circuit_r
+        voltage = current * circuit_r
+        tau = ind.total_H / circuit_r
+    else:
+        power = math.inf
+        voltage = math.copysign(math.inf, current)
+        tau = 0.0
+    density = abs(current) / (w.area_m2 * 1e6)
+    length = sum(c.wire_length_m for c in coils)
+    return CoilAxisElectrics(
+        wire_name=w.name,
+        coils=tuple(coils),
+        turns=max(c.turns for c in coils),
+        layers=max(c.layers for c in coils),
+        turns_per_layer=packs[0].turns_per_layer,
+        wire_length_m=length,
+        lead_length_m=leads,
+        resistance_20C_ohm=sum(c.resistance_20C_ohm for c in coils),
+        lead_resistance_20C_ohm=lead_r20,
+        resistance_hot_ohm=r_hot,
+        inductance_H=ind.total_H,
+        self_inductance_H=float(sum(ind.self_H)),
+        mutual_inductance_H=float(sum(ind.mutual_H)),
+        time_constant_s=tau,
+        copper_mass_kg=sum(c.copper_mass_kg for c in coils),
+        current_A=current,
+        winding_temperature_C=max(c.winding_temperature_C for c in coils) if converged else math.inf,
+        temperature_converged=converged,
+        power_W=power,
+        voltage_V=voltage,
+        current_density_A_per_mm2=density,
+        current_density_high=density > CURRENT_DENSITY_LIMIT_A_PER_MM2,
+        ambient_temperature_C=ambient,
+    )
+
+
+def winding_heat_terms(geometry, wire: Wire | str, frame_width_m: float, frame_depth_m: float
+                       ) -> list[tuple[float, float]]:
+    """Per coil of an axis (a ``CoilPair`` or a ``cage.coilaxis.CoilAxis``): its resistance at
+    20 degC (ohm) and the surface it sheds its heat from (m^2), as ``axis_electrics`` and
+    ``coil_axis_electrics`` take them (all four faces of the pack times the turn length).
+    What the steady temperature needs besides the current, for evaluating many currents at once.
+    """
+    from cage.coilaxis import perimeter_m
+
+    w = _as_wire(wire)
+    if isinstance(geometry, CoilPair):
+        coils = [(geometry.turns, geometry.size_m)] * 2
+    else:
+        coils = [(c.turns, c.size_m) for c in geometry.coils]
+    out = []
+    for turns, size in coils:
+        pack = winding_pack(w, turns, frame_width_m, frame_depth_m)
+        per = perimeter_m(geometry.shape, size)
+        out.append((turns * per * w.resistance_per_m_20C_ohm, 2.0 * (pack.width_m + pack.depth_m) * per))
+    return out
+
+
+def electrics_of(geometry, wire: Wire | str, current_A: float, **kwargs):
+    """``axis_electrics`` for a ``CoilPair``, ``coil_axis_electrics`` for a ``cage.coilaxis.CoilAxis``
+    (same keyword arguments); for callers that take either, e.g. a design file's axis
+    (``AxisDesign.pair or AxisDesign.coil_axis``)."""
+    if isinstance(geometry, CoilPair):
+        return axis_electrics(geometry, wire, current_A, **kwargs)
+    return coil_axis_electrics(geometry, wire, current_A, **kwargs)

@@ -179,3 +179,78 @@ def earth_field(latitude_deg: float, longitude_deg: float, altitude_m: float, da
         extrapolated=bool(warning),
         warning=warning,
     )
+
+
+TRACK_CHUNK_POINTS = 20_000
+
+
+def _check_span(first: _dt.datetime, last: _dt.datetime) -> None:
+    if first.date() < FIRST_DATE:
+        raise InputError(f"date {first.date()} is before {FIRST_DATE}, where {MODEL_NAME} begins")
+    if last.date() > LAST_DATE:
+        raise InputError(f"date {last.date()} is after {LAST_DATE}; {MODEL_NAME} cannot be extrapolated that far "
+                         f"(its predictive span ends {model_epochs()[-1].date()})")
+
+
+def _ned_at_epochs(lat_deg, lon_deg, alt_m, epochs: list[_dt.datetime]) -> np.ndarray:
+    """(len(epochs), n, 3) NED field at n points for each epoch, in chunks to bound memory."""
+    import ppigrf
+
+    lat = np.clip(np.asarray(lat_deg, dtype=float), -90.0 + POLE_OFFSET_DEG, 90.0 - POLE_OFFSET_DEG)
+    lon = np.asarray(lon_deg, dtype=float)
+    h_km = np.asarray(alt_m, dtype=float) / 1000.0
+    out = np.empty((len(epochs), lat.size, 3))
+    for s in range(0, lat.size, TRACK_CHUNK_POINTS):
+        sl = slice(s, s + TRACK_CHUNK_POINTS)
+        with contextlib.redirect_stdout(io.StringIO()), warnings.catch_warnings(), np.errstate(all="ignore"):
+            warnings.simplefilter("ignore")
+            be, bn, bu = ppigrf.igrf(lon[sl], lat[sl], h_km[sl], epochs)
+        out[:, sl, 0] = bn
+        out[:, sl, 1] = be
+        out[:, sl, 2] = -bu
+    if not np.all(np.isfinite(out)):
+        k = int(np.flatnonzero(~np.all(np.isfinite(out), axis=(0, 2)))[0])
+        raise InputError(f"the field model gave no value at latitude {lat[k]:g}, longitude {lon[k]:g}, "
+                         f"altitude {alt_m[k] if np.ndim(alt_m) else alt_m:g} m")
+    return out
+
+
+def field_ned_along_track(latitude_deg, longitude_deg, altitude_m, start, t_s) -> tuple[np.ndarray, str]:
+    """IGRF-14 NED field (nT) at n points each at its own time: a moving observer's track.
+
+    latitude_deg, longitude_deg (east positive), altitude_m (above WGS84): (n,) geodetic
+    positions; start: datetime (naive = UTC) of t = 0; t_s: (n,) seconds after ``start``.
+    Returns ((n, 3) north, east, down in nT, the span warning or '').
+
+    Vectorised over time exactly: the model is linear in its coefficients, which are
+    piecewise linear in time between epochs (and extrapolated linearly with the last
+    interval's secular variation past the last epoch, as :func:`earth_field` does), so the
+    field at each point is evaluated at the bounding epochs only (ppigrf, chunked) and
+    interpolated to the point's own time. Same dates refused and warned about as
+    :func:`earth_field`.
+    """
+    lat = np.asarray(latitude_deg, dtype=float).ravel()
+    lon = np.asarray(longitude_deg, dtype=float).ravel()
+    alt = np.broadcast_to(np.asarray(altitude_m, dtype=float), lat.shape).ravel()
+    t = np.asarray(t_s, dtype=float).ravel()
+    if not (lat.shape == lon.shape == t.shape):
+        raise InputError(f"track arrays must have one length, got {lat.size}, {lon.size}, {t.size}")
+    if np.any(np.abs(lat) > 90.0) or not np.all(np.isfinite(lat) & np.isfinite(lon) & np.isfinite(alt)):
+        raise InputError("track positions must be finite with latitudes within -90..90")
+    when0 = _as_datetime(start)
+    if t.size == 0:
+        return np.zeros((0, 3)), ""
+    first = when0 + _dt.timedelta(seconds=float(t.min()))
+    last = when0 + _dt.timedelta(seconds=float(t.max()))
+    _check_span(first, last)
+    epochs = list(model_epochs())
+    # Seconds of every epoch from start; each sample's interval index (the last one extends).
+    ep_s = np.array([(e - when0).total_seconds() for e in epochs])
+    idx = np.clip(np.searchsorted(ep_s, t, side="right") - 1, 0, len(epochs) - 2)
+    out = np.empty((t.size, 3))
+    for i in np.unique(idx):
+        sel = idx == i
+        pair = _ned_at_epochs(lat[sel], lon[sel], alt[sel], [epochs[i], epochs[i + 1]])
+        frac = ((t[sel] - ep_s[i]) / (ep_s[i + 1] - ep_s[i]))[:, None]
+        out[sel] = pair[0] + (pair[1] - pair[0]) * frac
+    return out, span_warning(last)

@@ -275,3 +275,87 @@ def pair_inductance(
     else:
         raise ValueError(f"unknown coil shape {shape!r}")
     return PairInductance(self_H=self_h, mutual_H=mutual_h, total_H=2.0 * self_h + 2.0 * mutual_h)
+
+
+# ---------------------------------------------------------------------------------------------
+# Axes of more than two coils (coaxial coils of different sizes, positions and turns)
+# ---------------------------------------------------------------------------------------------
+
+
+def mutual_inductance_parallel_offset_filaments_H(length1_m: float, length2_m: float, offset_m: float,
+                                                  distance_m: float) -> float:
+    """Mutual inductance of two parallel straight filaments of lengths l and m at perpendicular
+    distance d, the second starting ``offset_m`` = s along the common direction from the start of
+    the first (Neumann integral in closed form; Grover 1946, parallel filaments in any position)::
+
+        M = (mu0 / 4 pi) [g(s + m) - g(s) - g(s + m - l) + g(s - l)],  g(x) = x asinh(x/d) - sqrt(x^2 + d^2)
+
+    Same current direction positive. With s = 0 and m = l it is ``mutual_inductance_parallel_filaments_H``.
+    """
+    ell, em, s, d = float(length1_m), float(length2_m), float(offset_m), float(distance_m)
+
+    def g(x: float) -> float:
+        return x * math.asinh(x / d) - math.hypot(x, d)
+
+    return MU0_H_PER_M / (4.0 * math.pi) * (g(s + em) - g(s) - g(s + em - ell) + g(s - ell))
+
+
+def mutual_inductance_coaxial_unequal_squares_H(side1_m: float, side2_m: float, distance_m: float) -> float:
+    """Mutual inductance (H) of two coaxial parallel square filaments of sides a, b, sides parallel,
+    planes ``distance_m`` apart. Perpendicular sides do not couple; each side couples with the
+    parallel side on its own side of the axis (same direction, lateral offset (a - b)/2) and with
+    the opposite one (reverse direction, lateral offset (a + b)/2), both centred:
+    M = 4 [M_par(a, b, (a - b)/2, sqrt(z^2 + ((a - b)/2)^2)) - M_par(a, b, (a - b)/2,
+    sqrt(z^2 + ((a + b)/2)^2))] (Grover 1946). Equal sides give ``mutual_inductance_coaxial_squares_H``.
+    """
+    a, b, z = float(side1_m), float(side2_m), float(distance_m)
+    s = (a - b) / 2.0
+    near = math.hypot(z, (a - b) / 2.0)
+    far = math.hypot(z, (a + b) / 2.0)
+    return 4.0 * (mutual_inductance_parallel_offset_filaments_H(a, b, s, near)
+                  - mutual_inductance_parallel_offset_filaments_H(a, b, s, far))
+
+
+@dataclass(frozen=True)
+class AxisInductance:
+    """Inductance of the coils of one axis in series aiding.
+
+    self_H: each coil's self inductance; mutual_H: the mutual inductance of each pair of coils
+    (i, j), i < j, in the order (0,1), (0,2), ..., (1,2), ...; total_H: sum of self_H
+    + 2 sum of mutual_H.
+    """
+
+    self_H: tuple[float, ...]
+    mutual_H: tuple[float, ...]
+    total_H: float
+
+
+def axis_inductance(shape: str, sizes_m, positions_m, turns, gmds_m, self_corrections_H=None) -> AxisInductance:
+    """Inductance of coaxial coils in series aiding (any number, sizes, positions and turns).
+
+    shape: "square" (sizes are sides) or "round" (radii); gmds_m: GMD of each coil's winding
+    cross-section; self_corrections_H: added to each self inductance (e.g. Rosa's round-wire
+    correction). Self terms by Grover; mutual terms of the coils as filaments on their
+    centrelines (Maxwell's formula for circles, Neumann's closed form for squares), times
+    N_i N_j.
+    """
+    k = len(sizes_m)
+    corr = self_corrections_H if self_corrections_H is not None else [0.0] * k
+    selfs = []
+    for size, n, g, c in zip(sizes_m, turns, gmds_m, corr):
+        if shape == "square":
+            selfs.append(self_inductance_square_H(size, int(n), g) + c)
+        elif shape == "round":
+            selfs.append(self_inductance_round_H(size, int(n), g) + c)
+        else:
+            raise ValueError(f"unknown coil shape {shape!r}")
+    mutuals = []
+    for i in range(k):
+        for j in range(i + 1, k):
+            z = abs(float(positions_m[j]) - float(positions_m[i]))
+            if shape == "square":
+                m = mutual_inductance_coaxial_unequal_squares_H(sizes_m[i], sizes_m[j], z)
+            else:
+                m = mutual_inductance_coaxial_circles_H(sizes_m[i], sizes_m[j], z)
+            mutuals.append(int(turns[i]) * int(turns[j]) * m)
+    return AxisInductance(tuple(selfs), tuple(mutuals), float(sum(selfs) + 2.0 * sum(mutuals)))

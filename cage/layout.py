@@ -206,10 +206,16 @@ def check_layout(cage: CoilCage, frame: FrameSpec, room=None) -> Layout:
     for i in range(3):
         for j in range(i + 1, 3):
             distances[(pairs[i].axis, pairs[j].axis)] = min_centreline_distance_m(pairs[i], pairs[j])
+    return layout_from(distances, envelope_m(cage, frame), pairs, frame, room)
+
+
+def layout_from(distances: dict, envelope, parts, frame: FrameSpec, room=None) -> Layout:
+    """The ``Layout`` from the centreline distances between axes ({(a, b): m}), the envelope
+    (3,) and the axes' parts (pairs or coil axes: ``axis`` and ``half_width_m``)."""
     closest = min(distances, key=distances.get)
     dmin = distances[closest]
-    env = envelope_m(cage, frame)
-    order = tuple(p.axis for p in sorted(pairs, key=lambda p: (-p.half_width_m, AXES.index(p.axis))))
+    env = np.asarray(envelope, dtype=float)
+    order = tuple(p.axis for p in sorted(parts, key=lambda p: (-p.half_width_m, AXES.index(p.axis))))
     inner = None if room is None else room_inner_m(room)
     fits = True if inner is None else bool(np.all(env <= inner + 1e-12))
     return Layout(
@@ -248,7 +254,17 @@ def smallest_nesting_size_m(axis: str, shape: str, inner, frame: FrameSpec, lowe
     def ok(size: float) -> bool:
         return clears(CoilPair(axis, shape, size, ratio * size, 1), inner, frame)
 
-    if not inner or ok(lower_m):
+    if not inner:
+        return float(lower_m)
+    return first_clear_size_m(ok, lower_m, upper_m, tolerance_m,
+                              f"no {shape} {axis} pair up to {upper_m:g} m clears the inner pairs")
+
+
+def first_clear_size_m(ok, lower_m: float, upper_m: float, tolerance_m: float, failure: str) -> float:
+    """The scan of ``smallest_nesting_size_m`` for any ``ok(size)``: the smallest size >= lower_m
+    where it holds, on the fixed ``NESTING_STEP_M`` grid then by bisection; ValueError(failure)
+    beyond upper_m."""
+    if ok(lower_m):
         return float(lower_m)
     lo = float(lower_m)
     first = (math.floor(lo / NESTING_STEP_M) + 1) * NESTING_STEP_M
@@ -257,7 +273,7 @@ def smallest_nesting_size_m(axis: str, shape: str, inner, frame: FrameSpec, lowe
     while not ok(hi):  # coarse scan, every fourth grid point
         lo, hi = hi, hi + coarse
         if hi > upper_m:
-            raise ValueError(f"no {shape} {axis} pair up to {upper_m:g} m clears the inner pairs")
+            raise ValueError(failure)
     for k in (3, 2, 1):  # the grid points just below the first coarse hit, lowest first
         trial = hi - k * NESTING_STEP_M
         if trial > lo + 1e-12 and trial >= first - 1e-12 and ok(trial):

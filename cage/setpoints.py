@@ -121,6 +121,11 @@ def design_coupling_nT_per_A(design, point_m=(0.0, 0.0, 0.0)) -> np.ndarray:
     """3x3 coupling of a design at a point (cage frame), nT per ampere; column j = axis j."""
     from cage.uniformity import coupling_T_per_A
 
+    if not design.all_pairs:
+        from cage.coilaxis import axis_field_T
+
+        p = np.asarray(point_m, dtype=float)
+        return 1e9 * np.column_stack([axis_field_T(a.coil_axis, 1.0, p) for a in design.axes])
     return 1e9 * np.asarray(coupling_T_per_A(design.cage, point_m), dtype=float)
 
 
@@ -157,29 +162,32 @@ def rounded_setpoints_A(current_A: np.ndarray, resolution_A: float) -> np.ndarra
 
 @dataclass(frozen=True)
 class _AxisCircuit:
-    """What does not depend on the current: winding at 20 C, leads at ambient, cooling."""
+    """What does not depend on the current: per coil its resistance at 20 C and its cooling
+    conductance h A (W/K); the leads at ambient. conductances None: no thermal model (the
+    design gives the hot resistance directly, in resistances_20C_ohm)."""
 
-    resistance_20C_ohm: float
+    resistances_20C_ohm: tuple[float, ...]
     lead_resistance_ohm: float
-    conductance_W_per_K: float | None  # None: no thermal model (resistance given directly)
+    conductances_W_per_K: tuple[float, ...] | None
     ambient_temperature_C: float
 
 
 def _axis_circuit(axis_design, ambient_temperature_C: float) -> _AxisCircuit | None:
     a = axis_design
     if a.wire is not None and a.frame_width_m is not None and a.frame_depth_m is not None:
-        from cage.electrical import axis_electrics, cooling_surface_m2
+        from cage.electrical import electrics_of, winding_heat_terms
         from cage.thermal import NATURAL_CONVECTION_W_PER_M2_K
 
-        el = axis_electrics(a.pair, a.wire, 0.0,
-                            lead_length_m=a.lead_length_m if a.lead_length_m is not None else 0.0,
-                            frame_width_m=a.frame_width_m, frame_depth_m=a.frame_depth_m,
-                            ambient_temperature_C=ambient_temperature_C)
-        surface = cooling_surface_m2(a.pair, a.wire, a.frame_width_m, a.frame_depth_m)
-        return _AxisCircuit(el.resistance_20C_ohm, el.lead_resistance_ambient_ohm,
-                            NATURAL_CONVECTION_W_PER_M2_K * surface, ambient_temperature_C)
+        geometry = a.pair or a.coil_axis
+        el = electrics_of(geometry, a.wire, 0.0,
+                          lead_length_m=a.lead_length_m if a.lead_length_m is not None else 0.0,
+                          frame_width_m=a.frame_width_m, frame_depth_m=a.frame_depth_m,
+                          ambient_temperature_C=ambient_temperature_C)
+        terms = winding_heat_terms(geometry, a.wire, a.frame_width_m, a.frame_depth_m)
+        return _AxisCircuit(tuple(r for r, _ in terms), el.lead_resistance_ambient_ohm,
+                            tuple(NATURAL_CONVECTION_W_PER_M2_K * area for _, area in terms), ambient_temperature_C)
     if a.resistance_hot_ohm is not None:
-        return _AxisCircuit(float(a.resistance_hot_ohm), 0.0, None, ambient_temperature_C)
+        return _AxisCircuit((float(a.resistance_hot_ohm),), 0.0, None, ambient_temperature_C)
     return None
 
 
@@ -201,22 +209,27 @@ def _axis_drive_arrays(circuit: _AxisCircuit, current_A: np.ndarray) -> _AxisDri
     i = np.asarray(current_A, dtype=float)
     i2 = i * i
     m = i.shape
-    if circuit.conductance_W_per_K is None:
-        r_total = np.full(m, circuit.resistance_20C_ohm)
+    if circuit.conductances_W_per_K is None:
+        r_total = np.full(m, sum(circuit.resistances_20C_ohm))
         ok = np.ones(m, dtype=bool)
         runaway = np.zeros(m, dtype=bool)
         t = np.full(m, np.nan)
     else:
         alpha = COPPER_TEMPERATURE_COEFFICIENT_PER_K
-        g, r20, ta = circuit.conductance_W_per_K, circuit.resistance_20C_ohm, circuit.ambient_temperature_C
-        r_amb = r20 * (1.0 + alpha * (ta - REFERENCE_TEMPERATURE_C))
-        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
-            slope = alpha * i2 * r20 / g
-            t = ta + i2 * r_amb / (g * (1.0 - slope))
-        runaway = ~(slope < 1.0)
+        ta = circuit.ambient_temperature_C
+        runaway = np.zeros(m, dtype=bool)
+        t = np.full(m, -np.inf)
+        r_total = np.full(m, circuit.lead_resistance_ohm)
+        for r20, g in zip(circuit.resistances_20C_ohm, circuit.conductances_W_per_K):  # each coil
+            r_amb = r20 * (1.0 + alpha * (ta - REFERENCE_TEMPERATURE_C))
+            with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+                slope = alpha * i2 * r20 / g
+                tk = ta + i2 * r_amb / (g * (1.0 - slope))
+            runaway |= ~(slope < 1.0)
+            t = np.maximum(t, np.where(slope < 1.0, tk, np.inf))  # the hottest coil
+            r_total = r_total + r20 * (1.0 + alpha * (tk - REFERENCE_TEMPERATURE_C))
         ok = ~runaway & (t <= TEMPERATURE_MODEL_CEILING_C)
         t = np.where(ok, t, np.nan)
-        r_total = r20 * (1.0 + alpha * (t - REFERENCE_TEMPERATURE_C)) + circuit.lead_resistance_ohm
     with np.errstate(over="ignore", invalid="ignore"):
         voltage = np.where(ok, i * r_total, np.nan)
         power = np.where(ok, i2 * r_total, np.nan)
@@ -239,7 +252,7 @@ def max_drivable_current_A(axis_design, supply: Supply, ambient_temperature_C: f
     grid = np.linspace(0.0, supply.max_current_A, points)
     drive = _axis_drive_arrays(circuit, grid)
     good = drive.reachable & (np.abs(drive.voltage_V) <= supply.max_voltage_V)
-    if max_winding_temperature_C is not None and circuit.conductance_W_per_K is not None:
+    if max_winding_temperature_C is not None and circuit.conductances_W_per_K is not None:
         good &= drive.winding_temperature_C <= max_winding_temperature_C
     bad = np.flatnonzero(~good)
     last = points - 1 if bad.size == 0 else bad[0] - 1
@@ -307,7 +320,7 @@ def setpoint_table(design, ambient_cage_nT, supplies, targets, *, site: str = ""
         if circuit is not None:
             drive = _axis_drive_arrays(circuit, i)
             ok_t = drive.reachable
-            if circuit.conductance_W_per_K is not None:
+            if circuit.conductances_W_per_K is not None:
                 t = drive.winding_temperature_C
                 temperature[:, j] = t
                 flag(drive.runaway, j, lambda r: "unreachable: winding thermal runaway (no steady temperature)")
@@ -470,14 +483,16 @@ def reuse_warnings(design, supplies, room=None) -> list[str]:
     """Warnings when a design is used with another site's room or supplies."""
     out = []
     if room is not None:
-        from cage.layout import FrameSpec, envelope_m, room_inner_m
+        from cage.layout import FrameSpec, room_inner_m
 
         inner = room_inner_m(room)
         # The envelope from the pairs themselves (frames as recorded, else none), and the
         # recorded one if larger: an edited design file cannot hide its size.
         width = max((a.frame_width_m or 0.0) for a in design.axes)
         depth = max((a.frame_depth_m or 0.0) for a in design.axes)
-        env = envelope_m(design.cage, FrameSpec(width, depth, 0.0))
+        from cage.coillayout import design_envelope_m
+
+        env = design_envelope_m(design, FrameSpec(width, depth, 0.0))
         recorded = np.asarray(design.envelope_m if design.envelope_m is not None else [], dtype=float)
         if recorded.shape == (3,):
             env = np.maximum(env, recorded)

@@ -95,10 +95,14 @@ class CoilSettings:
 
 @dataclass(frozen=True)
 class Measured:
-    """A survey inside the room: the field at the cage centre in the cage frame (nT)."""
+    """A survey inside the room: the field at the cage centre in the cage frame (nT), and
+    optionally readings at several points (``points_m`` from the cage centre, m, and
+    ``fields_nT``, both cage frame) for the gradient over the test volume (``cage.gradient``)."""
 
     field_nT: tuple[float, float, float]
     note: str = ""
+    points_m: tuple[tuple[float, float, float], ...] = ()
+    fields_nT: tuple[tuple[float, float, float], ...] = ()
 
 
 @dataclass(frozen=True)
@@ -136,8 +140,9 @@ _TABLE_KEYS = {
         "lead_length_m",
         "axis_order",
     ),
-    "supply": ("axis", "max_voltage_V", "max_current_A", "resolution_A", "bipolar", "name"),
-    "measured": ("field_nT", "note"),
+    "supply": ("axis", "max_voltage_V", "max_current_A", "resolution_A", "bipolar", "name", "drive",
+               "temperature_coefficient_ppm_per_K", "drift_ppm_per_hour", "noise_ppm"),
+    "measured": ("field_nT", "note", "points_m", "fields_nT"),
 }
 
 
@@ -376,7 +381,12 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
         measured = Measured(
             field_nT=r.triple(meas_t, "field_nT", "measured.", default=None, allow_scalar=False, hi=None),
             note=r.text(meas_t, "note", "measured.", default=""),
+            points_m=_read_rows(r, meas_t, "points_m"),
+            fields_nT=_read_rows(r, meas_t, "fields_nT"),
         )
+        if len(measured.points_m) != len(measured.fields_nT):
+            raise r.fail("measured.fields_nT", f"has {len(measured.fields_nT)} readings for "
+                                               f"{len(measured.points_m)} points_m")
         if math.sqrt(sum(v * v for v in measured.field_nT)) > 1e6:
             raise r.fail("measured.field_nT", "is above 1,000,000 nT (1 mT); is it in nT?")
 
@@ -446,9 +456,23 @@ def _read_supplies(r: _Reader, value: Any) -> tuple[Supply, ...]:
             resolution_A=r.number(t, "resolution_A", p, default=0.001, positive=True, lo=MIN_RESOLUTION_A, hi=100.0),
             bipolar=bipolar,
             name=r.text(t, "name", p, default=""),
+            drive=r.text(t, "drive", p, default="current", choices=("current", "voltage")),
+            temperature_coefficient_ppm_per_K=r.number(t, "temperature_coefficient_ppm_per_K", p, default=100.0,
+                                                       nonnegative=True, lo=0.0, hi=1e5),
+            drift_ppm_per_hour=r.number(t, "drift_ppm_per_hour", p, default=10.0, nonnegative=True, lo=0.0, hi=1e5),
+            noise_ppm=r.number(t, "noise_ppm", p, default=50.0, nonnegative=True, lo=0.0, hi=1e5),
         )
         if supply.resolution_A > supply.max_current_A:
             raise r.fail(f"{p}resolution_A", f"({supply.resolution_A:g} A) is larger than max_current_A "
                                              f"({supply.max_current_A:g} A)")
         supplies.append(supply)
     return tuple(supplies)
+
+
+def _read_rows(r: _Reader, t: dict, key: str) -> tuple[tuple[float, float, float], ...]:
+    """An optional list of [x, y, z] rows (survey points or readings)."""
+    value = t.get(key, [])
+    if not isinstance(value, list) or not all(isinstance(v, list) and len(v) == 3 for v in value):
+        raise r.fail(f"measured.{key}", f"must be a list of [x, y, z] lists, got {_show(value)}")
+    return tuple(tuple(r.as_number(c, f"measured.{key}[{i}][{j}]") for j, c in enumerate(v))
+                 for i, v in enumerate(value))

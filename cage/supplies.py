@@ -17,6 +17,10 @@ class Supply:
     resolution_A: the smallest current step the channel can be set to.
     bipolar: True if the channel can source both signs; False needs a polarity switch.
     name: free text (model name or label), may be empty.
+    drive: "current" (the channel regulates its current: constant-current mode) or "voltage".
+    temperature_coefficient_ppm_per_K, drift_ppm_per_hour, noise_ppm: the channel's stability,
+    in ppm of full-scale current (per K of room temperature, per hour, rms); defaults 100, 10
+    and 50 are common practice for a programmable laboratory supply (``cage.errorbudget``).
     """
 
     axis: str
@@ -25,6 +29,10 @@ class Supply:
     resolution_A: float
     bipolar: bool
     name: str = ""
+    drive: str = "current"
+    temperature_coefficient_ppm_per_K: float = 100.0
+    drift_ppm_per_hour: float = 10.0
+    noise_ppm: float = 50.0
 
 
 SUPPLY_AXES = ("x", "y", "z", "any")

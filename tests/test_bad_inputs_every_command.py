@@ -24,6 +24,7 @@ import numpy as np
 import pytest
 
 from conftest import ROOT, SITES, assert_one_line_error
+from orbit_helpers import make_tle
 
 GOOD_SITE_TEXT = (SITES / "smallsat-lab.toml").read_text(encoding="utf-8")
 
@@ -129,6 +130,9 @@ def _ax(obj, axis="x"):
 
 G_SITE = lambda c: c.good.site  # noqa: E731
 G_DESIGN = lambda c: c.good.design  # noqa: E731
+
+# An invented element set (satellite 99931), checksums computed for it.
+ORBIT_TLE = make_tle(satnum=99931, name="BAD INPUT SAT")
 
 CASES = [
     # ---------------------------------------------------------------- field
@@ -416,6 +420,26 @@ CASES = [
     Case("sequence: output under a regular file",
          lambda c: ["sequence", G_DESIGN(c), G_SITE(c), "--sphere", "6", "--magnitude-uT", "50",
                     "--out", c.out(c.good.plain_file / "seq.csv")], ("file.txt/seq.csv",)),
+    Case("sequence: --orbit and --series together",
+         lambda c: ["sequence", G_DESIGN(c), G_SITE(c), "--series", c.good.series, "--orbit", c.good.series],
+         ("--orbit",)),
+    Case("sequence: --orbit with --latency-error-nT 0",
+         lambda c: ["sequence", G_DESIGN(c), G_SITE(c), "--orbit", c.good.series, "--latency-error-nT", "0"],
+         ("error budget",)),
+    # ---------------------------------------------------------------- orbit
+    Case("orbit: element set with a bad checksum",
+         lambda c: ["orbit", c.write("s.tle", ORBIT_TLE[:-2] + str((int(ORBIT_TLE[-2]) + 1) % 10) + "\n"),
+                    "--start", "2027-03-01", "--duration-s", "60", "--out", c.out(c.tmp / "o.csv")],
+         ("s.tle", "checksum")),
+    Case("orbit: --step-s 0",
+         lambda c: ["orbit", c.write("s.tle", ORBIT_TLE), "--start", "2027-03-01", "--duration-s", "60",
+                    "--step-s", "0", "--out", c.out(c.tmp / "o.csv")], ("step",)),
+    Case("orbit: output under a regular file",
+         lambda c: ["orbit", c.write("s.tle", ORBIT_TLE), "--start", "2027-03-01", "--duration-s", "60",
+                    "--out", c.out(c.good.plain_file / "o.csv")], ("file.txt/o.csv",)),
+    Case("orbit: figure under a regular file",
+         lambda c: ["orbit", c.write("s.tle", ORBIT_TLE), "--start", "2027-03-01", "--duration-s", "60",
+                    "--out", c.out(c.tmp / "o.csv"), "--plot", c.out(c.good.plain_file / "o.png")], ("file.txt/o.png",)),
     # ---------------------------------------------------------------- report
     Case("report: folder missing", lambda c: ["report", c.tmp / "no-plan"], ("no-plan", "no such folder")),
     Case("report: folder without a design", lambda c: ["report", _plan_dir(c, design=None)], ("plan", "design.json")),
@@ -428,6 +452,28 @@ CASES = [
     Case("sequence: design without inductance",
          lambda c: ["sequence", c.design(lambda o: _ax(o, "y").pop("inductance_H")), G_SITE(c), "--series",
                     c.good.series], ("axes.y.inductance_H",)),
+    # ---------------------------------------------------------------- tolerance
+    Case("tolerance: negative --tilt-deg", lambda c: ["tolerance", G_DESIGN(c), G_SITE(c), "--tilt-deg", "-0.1"],
+         ("--tilt-deg",)),
+    Case("tolerance: --samples 1", lambda c: ["tolerance", G_DESIGN(c), G_SITE(c), "--samples", "1"], ("--samples",)),
+    Case("tolerance: --valid-until before the site's date",
+         lambda c: ["tolerance", G_DESIGN(c), G_SITE(c), "--valid-until", "2001-01-01"], ("--valid-until",)),
+    Case("tolerance: unknown supply drive",
+         lambda c: ["tolerance", G_DESIGN(c), c.site("[[supply]]\n", '[[supply]]\ndrive = "pwm"\n')],
+         ("bad.toml", "supply[0].drive", "pwm")),
+    Case("tolerance: survey readings do not match its points",
+         lambda c: ["tolerance", G_DESIGN(c), c.site(append='\n[measured]\nfield_nT = [1.0, 2.0, 3.0]\n'
+                                                            'points_m = [[0, 0, 0], [1, 0, 0]]\n'
+                                                            'fields_nT = [[1, 2, 3]]\n')],
+         ("bad.toml", "measured.fields_nT")),
+    Case("tolerance: survey points on one line",
+         lambda c: ["tolerance", G_DESIGN(c), c.site(append='\n[measured]\nfield_nT = [1.0, 2.0, 3.0]\n'
+                                                            'points_m = [[0, 0, 0], [1, 0, 0], [2, 0, 0]]\n'
+                                                            'fields_nT = [[1, 2, 3], [1, 2, 3], [1, 2, 3]]\n')],
+         ("bad.toml", "[measured]", "span")),
+    Case("tolerance: plot into a missing folder",
+         lambda c: ["tolerance", G_DESIGN(c), G_SITE(c), "--samples", "20", "--spec-samples", "20", "--seed", "1",
+                    "--plot", c.out("/nonexistent/dir/t.png")], ("/nonexistent/dir/t.png", "does not exist")),
 ]
 
 

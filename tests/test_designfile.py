@@ -151,7 +151,7 @@ BAD = [
     ("side on round", _variant(lambda o: o["axes"]["y"].update(side_m=1.0)), ["axes.y.side_m", "round"]),
     ("wrong format", _variant(lambda o: o.update(format="cage-site")), ["format", "cage-design"]),
     ("no format", _variant(lambda o: o.pop("format")), ["not a cage design file"]),
-    ("wrong version", _variant(lambda o: o.update(version=2)), ["version", "2"]),
+    ("wrong version", _variant(lambda o: o.update(version=3)), ["version", "3"]),
     ("axes not object", _variant(lambda o: o.update(axes=[1, 2, 3])), ["axes must be an object"]),
     ("bad optional", _variant(lambda o: o["axes"]["x"].update(max_current_A=-2.0)), ["axes.x.max_current_A"]),
     ("bad wire", _variant(lambda o: o["axes"]["x"].update(wire=18)), ["axes.x.wire"]),

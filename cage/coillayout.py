@@ -1,0 +1,185 @@
+"""How the coils of three axes of any coil system sit together (frames of every coil), and the room.
+
+The rules are those of ``cage.layout`` for pairs, applied to every coil of every axis:
+
+* Frames of different axes: the smallest distance between the centrelines of any coil of one
+  axis and any coil of another must be at least the frame cross-section's circumcircle
+  diameter plus the gap (``FrameSpec.needed_distance_m``); the distances are the exact ones of
+  ``cage.layout`` (segment to segment for squares, point to circle refined along the other
+  curve otherwise).
+* Frames of one axis: two coils of the same axis collide when their frame rectangles
+  (``width_m`` along the axis by ``depth_m`` radially, centred on each centreline) overlap,
+  i.e. their planes are closer than the frame width and their half-widths closer than the
+  frame depth.
+* Test volume: no coil may pass through it (a box may pass through a coil's aperture).
+* Envelope: the bounding box of every frame; it must fit the room less its clearance.
+
+Kept apart from ``cage.layout`` so the pair planner's module stays as it is; for a cage of
+pairs these functions give the numbers of ``cage.layout``.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from cage.coilaxis import AxisCage, Coil, CoilAxis
+from cage.coils import AXES, CoilPair
+from cage.layout import (
+    FrameSpec,
+    Layout,
+    _curve_to_circle_m,
+    _segments_distance_m,
+    _square_segments,
+    first_clear_size_m,
+    layout_from,
+)
+
+__all__ = [
+    "coil_distance_m",
+    "axes_min_distance_m",
+    "axis_extent_m",
+    "axes_envelope_m",
+    "check_axes_layout",
+    "axis_clears",
+    "same_axis_collisions",
+    "axes_geometry_problems",
+    "smallest_nesting_axis_size_m",
+]
+
+
+def _as_pair(ax: CoilAxis, c: Coil) -> tuple[CoilPair, float]:
+    """One coil as (the +side coil of a pair of spacing 2|p|, sign of p), for cage.layout's kernels."""
+    return CoilPair(ax.axis, ax.shape, float(c.size_m), 2.0 * abs(float(c.position_m)), 1), \
+        (1.0 if c.position_m >= 0 else -1.0)
+
+
+def coil_distance_m(ax_a: CoilAxis, ca: Coil, ax_b: CoilAxis, cb: Coil) -> float:
+    """Smallest distance between the centrelines of coil ``ca`` of axis a and ``cb`` of axis b."""
+    pa, sa = _as_pair(ax_a, ca)
+    pb, sb = _as_pair(ax_b, cb)
+    if pa.shape == "square" and pb.shape == "square":
+        return _segments_distance_m(*_square_segments(pa, sa), *_square_segments(pb, sb))
+    if pb.shape == "round":
+        return _curve_to_circle_m(pa, sa, pb, sb)
+    return _curve_to_circle_m(pb, sb, pa, sa)
+
+
+def axes_min_distance_m(ax_a: CoilAxis, ax_b: CoilAxis) -> float:
+    """Smallest centreline distance between any coil of axis a and any coil of axis b (different axes)."""
+    if ax_a.axis == ax_b.axis:
+        raise ValueError("the two axes must be different")
+    return min(coil_distance_m(ax_a, ca, ax_b, cb) for ca in ax_a.coils for cb in ax_b.coils)
+
+
+def axis_extent_m(ax: CoilAxis, frame: FrameSpec) -> np.ndarray:
+    """Half-extent (3,) of one axis's frames along cage x, y, z."""
+    a = AXES.index(ax.axis)
+    ext = np.full(3, ax.half_width_m + frame.depth_m / 2.0)
+    ext[a] = ax.half_length_m + frame.width_m / 2.0
+    return ext
+
+
+def axes_envelope_m(cage: AxisCage, frame: FrameSpec) -> np.ndarray:
+    """Outer size (3,) of the bounding box of every frame along cage x, y, z."""
+    return 2.0 * np.max([axis_extent_m(ax, frame) for ax in cage.axes], axis=0)
+
+
+def check_axes_layout(cage: AxisCage, frame: FrameSpec, room=None) -> Layout:
+    """Clearances between the frames of different axes, the envelope and the fit in the room
+    (``cage.layout.Layout``; ``order``: outermost first by the largest half-width)."""
+    axes = cage.axes
+    distances = {}
+    for i in range(3):
+        for j in range(i + 1, 3):
+            distances[(axes[i].axis, axes[j].axis)] = axes_min_distance_m(axes[i], axes[j])
+    return layout_from(distances, axes_envelope_m(cage, frame), axes, frame, room)
+
+
+def axis_clears(ax: CoilAxis, others, frame: FrameSpec) -> bool:
+    """True when every coil of ``ax`` keeps the needed centreline distance from every coil of
+    every axis in ``others``."""
+    need = frame.needed_distance_m
+    return all(axes_min_distance_m(ax, o) >= need for o in others)
+
+
+def same_axis_collisions(ax: CoilAxis, frame: FrameSpec) -> list[tuple[int, int]]:
+    """Index pairs (i, j) of coils of one axis whose frame rectangles overlap."""
+    out = []
+    hw = [c.size_m / 2.0 if ax.shape == "square" else c.size_m for c in ax.coils]
+    for i in range(ax.count):
+        for j in range(i + 1, ax.count):
+            if abs(ax.coils[i].position_m - ax.coils[j].position_m) < frame.width_m - 1e-12 \
+                    and abs(hw[i] - hw[j]) < frame.depth_m - 1e-12:
+                out.append((i, j))
+    return out
+
+
+def axes_geometry_problems(cage: AxisCage, frame: FrameSpec, test_volume_m=None) -> list[str]:
+    """What makes a cage of any coil systems impossible to build or to use (empty if nothing).
+
+    As ``cage.layout.geometry_problems``, for every coil: a coil smaller than its frame, frames
+    of one axis that overlap, frames of different axes that collide (1 mm of slack for a
+    design made elsewhere), and a coil that passes through the test volume (a box, sides x,
+    y, z in metres).
+    """
+    from cage.axissizing import wires_clear_volume
+
+    out = []
+    for ax in cage.axes:
+        for c in ax.coils:
+            hw = c.size_m / 2.0 if ax.shape == "square" else c.size_m
+            if hw <= frame.depth_m / 2.0:
+                out.append(f"the {ax.axis} axis coil at {c.position_m:+.3f} m ({ax.shape}, {c.size_m:g} m) is "
+                           f"smaller than its {frame.depth_m * 1000:g} mm frame")
+    if out:
+        return out
+    for ax in cage.axes:
+        for i, j in same_axis_collisions(ax, frame):
+            out.append(f"the frames of the {ax.axis} axis coils at {ax.coils[i].position_m:+.3f} m and "
+                       f"{ax.coils[j].position_m:+.3f} m overlap")
+    layout = check_axes_layout(cage, frame)
+    if layout.min_distance_m < frame.needed_distance_m - 1e-3:
+        a, b = layout.closest_axes
+        out.append(f"the frames of the {a} and {b} axes collide: centrelines {layout.min_distance_m * 1000:.0f} mm "
+                   f"apart, {frame.needed_distance_m * 1000:.0f} mm needed")
+    if test_volume_m is not None:
+        box = np.asarray(test_volume_m, dtype=float)
+        for ax in cage.axes:
+            if not wires_clear_volume(ax, box_m=box):
+                out.append(f"the {ax.axis} axis's coils pass through the "
+                           f"{' x '.join(f'{v:g}' for v in box)} m test volume")
+    return out
+
+
+def smallest_nesting_axis_size_m(axis: str, shape: str, system: str, inner, frame: FrameSpec, lower_m: float,
+                                 upper_m: float = 100.0, tolerance_m: float = 1e-3) -> float:
+    """Smallest nominal size >= lower_m of ``system`` (``cage.coilsystems.system_axis``) on
+    ``axis`` whose every coil clears every coil of the axes in ``inner``.
+
+    The scan of ``cage.layout.smallest_nesting_size_m`` (``first_clear_size_m``: a fixed 1 cm
+    grid, clearance not being monotone in size, then bisection); the size returned always
+    clears. ValueError beyond upper_m.
+    """
+    from cage.coilsystems import system_axis
+
+    def ok(size: float) -> bool:
+        return axis_clears(system_axis(axis, shape, system, size), inner, frame)
+
+    if not inner:
+        return float(lower_m)
+    return first_clear_size_m(ok, lower_m, upper_m, tolerance_m,
+                              f"no {shape} {system} {axis} axis up to {upper_m:g} m clears the inner axes")
+
+
+def design_geometry_problems(design, frame: FrameSpec, test_volume_m=None) -> list[str]:
+    """``cage.layout.geometry_problems`` for a design of pairs (its messages unchanged), else
+    ``axes_geometry_problems`` of every coil (``cage.designfile.Design``)."""
+    from cage.layout import geometry_problems
+
+    if design.all_pairs:
+        return geometry_problems(design.cage, frame, test_volume_m)
+    return axes_geometry_problems(design.axis_cage, frame, test_volume_m)
+
+
+def design_envelope_m(design, frame: FrameSpec) -> np.ndarray:
+    """Outer size (3,) of every frame of a design (``cage.designfile.Design``), cage x, y, z."""
+    return axes_envelope_m(design.axis_cage, frame)
