@@ -225,3 +225,32 @@ def test_a_sequence_too_long_is_refused_before_resampling(run_cli, large, tmp_pa
     series.write_text("t_s,x_nT,y_nT,z_nT\n0,0,0,0\n100000,1000,0,0\n")
     run = run_cli("sequence", large[0], SITE, "--series", series, "--rate-Hz", 100, "--format", "csv")
     assert_one_line_error(run, "1,000,000")
+
+
+def test_four_coil_axes_match_the_scalar_model_of_every_coil():
+    """A version-2 design (four square coils per axis): the table's array model gives the
+    voltage and hottest-coil temperature of cage.electrical.coil_axis_electrics (each coil's
+    own heat balance, resistances in series) at every current, and flags runaway alike."""
+    import numpy as np
+
+    from cage.coilsystems import system_axis
+    from cage.designfile import AxisDesign
+    from cage.electrical import coil_axis_electrics
+    from cage.setpoints import _axis_circuit, _axis_drive_arrays
+
+    axis = system_axis("z", "square", "four", 1.5, multiplier=2)
+    a = AxisDesign(pair=None, coil_axis=axis, wire="AWG 18", frame_width_m=0.04, frame_depth_m=0.04,
+                   lead_length_m=6.0)
+    circuit = _axis_circuit(a, 22.0)
+    assert len(circuit.resistances_20C_ohm) == len(axis.coils) == 4
+    currents = np.linspace(-40.0, 40.0, 41)
+    arrays = _axis_drive_arrays(circuit, currents)
+    for i, ok, t, v in zip(currents, arrays.reachable, arrays.winding_temperature_C, arrays.voltage_V):
+        el = coil_axis_electrics(axis, "AWG 18", float(i), lead_length_m=6.0, frame_width_m=0.04,
+                                 frame_depth_m=0.04, ambient_temperature_C=22.0)
+        if el.temperature_converged and el.winding_temperature_C <= 250.0:
+            assert ok and t == pytest.approx(el.winding_temperature_C, rel=1e-9)
+            assert v == pytest.approx(el.voltage_V, rel=1e-9)
+        else:
+            assert not ok and math.isnan(v)
+    assert not arrays.reachable.all() and arrays.reachable.any()  # the range crosses into runaway
