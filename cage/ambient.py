@@ -32,6 +32,12 @@ class Ambient:
     model_cage_nT: tuple[float, float, float]
     measured_cage_nT: tuple[float, float, float] | None = None
     measured_note: str = ""
+    notes: tuple[str, ...] = ()  # re-use warnings (survey age, dip pole), one line each
+
+    @property
+    def warnings(self) -> tuple[str, ...]:
+        """Every warning about this field: the model's span, then the re-use notes."""
+        return tuple(w for w in (self.earth.warning,) + self.notes if w)
 
     @property
     def source(self) -> str:
@@ -62,18 +68,53 @@ def ambient_field(latitude_deg: float, longitude_deg: float, altitude_m: float, 
                   measured_cage_nT=None, measured_note: str = "") -> Ambient:
     """Model field at the site rotated into the cage frame, with an optional survey reading."""
     earth = earth_field(latitude_deg, longitude_deg, altitude_m, date)
+    from cage.reuse import dip_pole_warning
+
     heading_true = true_heading_deg(heading_deg, heading_reference, earth.declination_deg)
     cage_nT = ned_to_cage(earth.ned_nT, heading_true)
     measured = None if measured_cage_nT is None else tuple(float(v) for v in measured_cage_nT)
+    notes = (dip_pole_warning(earth.horizontal_nT, heading_reference),)
     return Ambient(earth=earth, heading_deg_given=float(heading_deg), heading_reference=heading_reference,
                    heading_true_deg=heading_true, model_cage_nT=tuple(float(v) for v in cage_nT),
-                   measured_cage_nT=measured, measured_note=measured_note)
+                   measured_cage_nT=measured, measured_note=measured_note, notes=tuple(n for n in notes if n))
 
 
 def site_ambient(site) -> Ambient:
-    """Ambient field for a :class:`cage.sitefile.Site`."""
+    """Ambient field for a :class:`cage.sitefile.Site`.
+
+    A survey (``[measured]``) made on another day than the site's date is carried to that
+    date by the model's change between the two days, in the cage frame (cage.reuse).
+    """
+    import dataclasses
+
     loc, ori = site.location, site.orientation
-    measured = site.measured.field_nT if site.measured is not None else None
-    note = site.measured.note if site.measured is not None else ""
-    return ambient_field(loc.latitude_deg, loc.longitude_deg, loc.altitude_m, site.date,
-                         ori.heading_deg, ori.heading_reference, measured, note)
+    amb = ambient_field(loc.latitude_deg, loc.longitude_deg, loc.altitude_m, site.date,
+                        ori.heading_deg, ori.heading_reference)
+    m = site.measured
+    if m is None:
+        return amb
+    from cage.reuse import carry_survey
+
+    notes = list(amb.notes)
+    if m.date_assumed:
+        notes.append(f"warning: {site.source}: [measured] has no date; taking the site's date "
+                     f"{m.date.isoformat()} as the survey's (add measured.date)")
+    then = amb.model_cage_nT if m.date == site.date else survey_model_cage_nT(site, amb.heading_true_deg)
+    carried = carry_survey(m.field_nT, m.date, site.date, then, amb.model_cage_nT)
+    if m.date != site.date:
+        notes.append(carried.note)
+    note = "; ".join(t for t in (m.note, carried.note) if t)
+    return dataclasses.replace(amb, measured_cage_nT=carried.field_cage_nT, measured_note=note, notes=tuple(notes))
+
+
+def survey_model_cage_nT(site, heading_true_deg: float) -> tuple[float, float, float]:
+    """The model field on the survey's day at the site, in the cage frame (nT)."""
+    loc = site.location
+    return model_cage_nT(loc.latitude_deg, loc.longitude_deg, loc.altitude_m, site.measured.date, heading_true_deg)
+
+
+def model_cage_nT(latitude_deg: float, longitude_deg: float, altitude_m: float, date: _dt.date,
+                  heading_true_deg: float) -> tuple[float, float, float]:
+    """The model field at a position and date in the cage frame of a true heading (nT)."""
+    earth = earth_field(latitude_deg, longitude_deg, altitude_m, date)
+    return tuple(float(v) for v in ned_to_cage(earth.ned_nT, heading_true_deg))

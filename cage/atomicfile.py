@@ -1,7 +1,8 @@
 """Write output files atomically: a temporary file beside the target, then rename.
 
-A failed run never leaves a half-written file behind. Errors (missing folder,
-no permission) become :class:`cage.errors.InputError` with the path named.
+A failed run never leaves a half-written file behind; the temporary file names its process
+(``.NAME.PID-XXXX.tmp``) and one left by a killed run is removed by the next write. Errors
+(missing folder, no permission) become :class:`cage.errors.InputError` with the path named.
 """
 from __future__ import annotations
 
@@ -22,8 +23,9 @@ def write_bytes(path: str | os.PathLike, data: bytes) -> Path:
     if target.is_dir():
         raise InputError(f"{target}: is a folder, not a file")
     _refuse_special(target)
+    _clean_stale(target, folder)
     try:
-        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
+        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.{os.getpid()}-", suffix=".tmp", dir=folder)
     except OSError as exc:
         raise InputError(f"{target}: cannot write in {folder} ({exc.strerror})") from None
     try:
@@ -38,6 +40,24 @@ def write_bytes(path: str | os.PathLike, data: bytes) -> Path:
             pass
         raise InputError(f"{target}: cannot write ({exc.strerror})") from None
     return target
+
+
+def _clean_stale(target: Path, folder: Path) -> None:
+    """Remove temporaries a killed run left for this target (their process is gone)."""
+    from cage.outputs import pid_alive
+
+    prefix = f".{target.name}."
+    try:
+        names = [n for n in os.listdir(folder) if n.startswith(prefix) and n.endswith(".tmp")]
+    except OSError:
+        return
+    for name in names:
+        pid = name[len(prefix):].split("-", 1)[0]
+        if pid.isdigit() and not pid_alive(int(pid)):
+            try:
+                os.unlink(folder / name)
+            except OSError:
+                pass
 
 
 def _refuse_special(target: Path) -> None:

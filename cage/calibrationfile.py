@@ -6,7 +6,8 @@ list of 3 rows, row = field component, column = axis):
 required: format, version, coupling_nT_per_A, offset_nT
 optional: rms_residual_nT, rms_residual_all_nT, noise_sigma_nT, n_rows, n_outliers,
           outlier_rows, condition_number, coupling_stderr_nT_per_A, offset_stderr_nT
-          (numbers, or null when unknown), source_file, design, design_checksum (text).
+          (numbers, or null when unknown), source_file, design, design_checksum (text),
+          provenance (object, cage.provenance: the site, date and design the offset holds for).
 
 Any other key is an error, so that a misspelt key is not silently ignored. Written
 atomically (:mod:`cage.atomicfile`); every problem on reading is one InputError line
@@ -32,7 +33,7 @@ REQUIRED_KEYS = ("format", "version", "coupling_nT_per_A", "offset_nT")
 OPTIONAL_NUMBER_KEYS = ("rms_residual_nT", "rms_residual_all_nT", "noise_sigma_nT", "condition_number")
 OPTIONAL_TEXT_KEYS = ("source_file", "design", "design_checksum")
 OPTIONAL_KEYS = OPTIONAL_NUMBER_KEYS + OPTIONAL_TEXT_KEYS + (
-    "n_rows", "n_outliers", "outlier_rows", "coupling_stderr_nT_per_A", "offset_stderr_nT")
+    "n_rows", "n_outliers", "outlier_rows", "coupling_stderr_nT_per_A", "offset_stderr_nT", "provenance")
 MAX_CONDITION = 1e10
 # Plausible ranges (a value outside is a damaged file): 1e-3 nT/A .. 1 T/A per entry, offset
 # within 10 mT (the Earth's field is below 0.07 mT; a lab's magnets add less than 10 mT).
@@ -48,6 +49,7 @@ class CalibrationRecord:
     fit: CalibrationFit
     design: str
     design_checksum: str
+    provenance: dict | None = None
 
 
 def _num(v):
@@ -56,7 +58,7 @@ def _num(v):
 
 
 def calibration_document(fit: CalibrationFit, *, source_file: str | None = None,
-                         design: str = "", design_checksum: str = "") -> dict:
+                         design: str = "", design_checksum: str = "", provenance: dict | None = None) -> dict:
     """The JSON object written by :func:`save_calibration` (NaN becomes null)."""
     doc = {
         "format": FORMAT,
@@ -78,11 +80,13 @@ def calibration_document(fit: CalibrationFit, *, source_file: str | None = None,
         doc["design"] = str(design)
     if design_checksum:
         doc["design_checksum"] = str(design_checksum)
+    if provenance is not None:
+        doc["provenance"] = provenance
     return doc
 
 
 def save_calibration(path: str | os.PathLike, fit: CalibrationFit, *, source_file: str | None = None,
-                     design: str = "", design_checksum: str = "") -> Path:
+                     design: str = "", design_checksum: str = "", provenance: dict | None = None) -> Path:
     """Write ``fit`` as a calibration file at ``path`` atomically; return the path.
 
     source_file: overrides fit.source_file. design, design_checksum: which design file the
@@ -91,7 +95,8 @@ def save_calibration(path: str | os.PathLike, fit: CalibrationFit, *, source_fil
     """
     if not (np.all(np.isfinite(fit.coupling_nT_per_A)) and np.all(np.isfinite(fit.offset_nT))):
         raise InputError(f"{path}: refusing to write a calibration with non-finite coupling or offset")
-    doc = calibration_document(fit, source_file=source_file, design=design, design_checksum=design_checksum)
+    doc = calibration_document(fit, source_file=source_file, design=design, design_checksum=design_checksum,
+                               provenance=provenance)
     return write_text(path, json.dumps(doc, indent=2, allow_nan=False) + "\n")
 
 
@@ -211,7 +216,13 @@ def load_calibration_record(path: str | os.PathLike) -> CalibrationRecord:
         offset_stderr_nT=b_se,
         source_file=texts["source_file"],
     )
-    return CalibrationRecord(fit=fit, design=texts["design"], design_checksum=texts["design_checksum"])
+    prov = None
+    if "provenance" in doc:
+        from cage.provenance import check_provenance_object
+
+        prov = check_provenance_object(doc["provenance"], str(p))
+    return CalibrationRecord(fit=fit, design=texts["design"], design_checksum=texts["design_checksum"],
+                             provenance=prov)
 
 
 def load_calibration(path: str | os.PathLike) -> CalibrationFit:

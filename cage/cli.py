@@ -22,15 +22,32 @@ from cage.errors import EXIT_UNEXPECTED, CageError, InputError
 
 app = typer.Typer(
     add_completion=False,
-    no_args_is_help=True,
+    no_args_is_help=False,  # "cage" alone: the callback prints the help and exits 0
     pretty_exceptions_enable=False,
+    rich_markup_mode=None,  # help texts hold [room], [[supply]]: plain text, not markup
+    context_settings={"help_option_names": ["-h", "--help"]},
     help="Plan, drive and correct three-axis magnetic coil cages.",
 )
 
 
-@app.callback()
-def _root() -> None:
+def _show_version(value: bool) -> None:
+    if value:
+        from cage import __version__
+
+        typer.echo(f"cage {__version__}")
+        raise typer.Exit()
+
+
+@app.callback(invoke_without_command=True)
+def _root(
+    ctx: typer.Context,
+    version: bool = typer.Option(False, "--version", callback=_show_version, is_eager=True,
+                                 help="Print the program's version and exit."),
+) -> None:
     """Plan, drive and correct three-axis magnetic coil cages (see the README)."""
+    if ctx.invoked_subcommand is None:
+        typer.echo(ctx.get_help())
+        raise typer.Exit()
 
 
 # ----------------------------------------------------------------------------- helpers
@@ -47,8 +64,15 @@ def _say(text: str = "") -> None:
 
 
 def _warn(text: str) -> None:
-    if text:
-        typer.echo(_visible(text if text.startswith("warning") else f"warning: {text}"), err=True)
+    """One plain line on stderr: "caution: ..." for safety cautions, else "warning: ..."."""
+    line = " ".join(_visible(text or "").split())
+    if not line:
+        return
+    for prefix in ("warning:", "caution:"):
+        if line.lower().startswith(prefix):
+            typer.echo(f"{prefix} {line[len(prefix):].lstrip()}", err=True)
+            return
+    typer.echo(f"warning: {line}", err=True)
 
 
 def _dump_json(obj) -> str:
@@ -56,7 +80,8 @@ def _dump_json(obj) -> str:
 
 
 def _fmt(value: float, digits: int = 1) -> str:
-    return f"{value:,.{digits}f}"
+    text = f"{value:,.{digits}f}"
+    return text[1:] if text.startswith("-") and float(text.replace(",", "")) == 0.0 else text  # no "-0.0"
 
 
 def _resolve_site(site_file: Optional[Path], lat: Optional[float], lon: Optional[float],
@@ -75,9 +100,10 @@ def _resolve_site(site_file: Optional[Path], lat: Optional[float], lon: Optional
         orientation = sitefile.Orientation(
             heading_deg=sitefile.check_heading(0.0 if heading_deg is None else heading_deg, "command line"),
             heading_reference="magnetic" if heading_magnetic else "true",
+            stated=heading_deg is not None or heading_magnetic,
         )
         return sitefile.Site(
-            name=f"{location.latitude_deg:g}, {location.longitude_deg:g}", date=when, date_given=date is not None,
+            name=_place_name(location.latitude_deg, location.longitude_deg), date=when, date_given=date is not None,
             location=location, orientation=orientation, room=None, requirement=sitefile.Requirement(),
             coil=sitefile.CoilSettings(), supplies=(), measured=None, source="command line")
     site = sitefile.load_site(site_file)
@@ -98,6 +124,13 @@ def _resolve_site(site_file: Optional[Path], lat: Optional[float], lon: Optional
     return site
 
 
+def _place_name(lat_deg: float, lon_deg: float) -> str:
+    """A place given by numbers, named as a person reads it: "33.9 deg S, 70.5 deg W"."""
+    from cage.numberformat import latitude_text, longitude_text
+
+    return f"{latitude_text(lat_deg, 4)}, {longitude_text(lon_deg, 4)}".replace("000 deg", " deg")
+
+
 SiteArg = typer.Argument(None, help="Site file (TOML). Omit it to give the place with --lat/--lon.",
                          show_default=False)
 LatOpt = typer.Option(None, "--lat", help="Geodetic latitude, degrees north.")
@@ -110,7 +143,7 @@ MagneticOpt = typer.Option(False, "--heading-magnetic", help="The heading is fro
 
 # ----------------------------------------------------------------------------- field
 
-def field_summary(site, amb) -> dict:
+def field_summary(site, amb, design_identity: str = "") -> dict:
     """The JSON object of ``cage field``."""
     e = amb.earth
     sv_cage = amb.sv_cage_nT_per_year
@@ -142,14 +175,26 @@ def field_summary(site, amb) -> dict:
         out["measured_cage_frame_nT"] = dict(zip("xyz", amb.measured_cage_nT))
         out["local_share_cage_nT"] = dict(zip("xyz", (float(v) for v in amb.local_share_cage_nT)))
         out["measured_note"] = amb.measured_note
+    out["provenance"] = _field_provenance(site, amb, design_identity).as_dict()
     return out
 
 
+def _field_provenance(site, amb, design_identity: str = "", warnings=()):
+    from cage.provenance import make_provenance
+
+    derived = {"site_file": "" if site.source == "command line" else site.source, "design": design_identity,
+               "survey": site.measured.date.isoformat() if site.measured is not None else ""}
+    return make_provenance(site, amb, derived_from=derived, warnings=tuple(amb.warnings) + tuple(warnings))
+
+
 def field_table(site, amb) -> str:
+    from cage.numberformat import azimuth_text, latitude_text, longitude_text
+
     e = amb.earth
     lines = [
         f"Site        {site.name}",
-        f"Position    {e.latitude_deg:.4f} deg N, {e.longitude_deg:.4f} deg E, {e.altitude_m:.0f} m (WGS84)",
+        f"Position    {latitude_text(e.latitude_deg)}, {longitude_text(e.longitude_deg)}, "
+        f"{_fmt(e.altitude_m, 0)} m (WGS84)",
         f"Date        {e.date.isoformat()}{'' if site.date_given else ' (today, UTC)'}   model {e.model}",
         "",
         "Geographic frame (NED)         field          secular variation",
@@ -163,9 +208,9 @@ def field_table(site, amb) -> str:
         "",
     ]
     ref = amb.heading_reference
-    head = f"Cage frame   +x at {amb.heading_true_deg:.2f} deg true"
+    head = f"Cage frame   +x at {azimuth_text(amb.heading_true_deg)} deg true"
     if ref == "magnetic":
-        head += f" ({amb.heading_deg_given:.2f} deg magnetic + declination)"
+        head += f" ({azimuth_text(amb.heading_deg_given)} deg magnetic + declination)"
     lines.append(head + ", +y 90 deg clockwise of +x, +z down")
     if amb.measured_cage_nT is None:
         for axis, v in zip("xyz", amb.model_cage_nT):
@@ -196,7 +241,8 @@ def field(
 
     site = _resolve_site(site_file, lat, lon, alt_m, date, heading_deg, heading_magnetic)
     amb = site_ambient(site)
-    _warn(amb.earth.warning)
+    for w in amb.warnings:
+        _warn(w)
     if as_json:
         typer.echo(_dump_json(field_summary(site, amb)), nl=False)
     else:
@@ -221,7 +267,8 @@ def _plan_from_site(site, shape, minimise, spacing, max_field_step_nT):
     if site.room is None:
         raise InputError(f"{site.source}: no [room] table; the planner needs the room the cage must fit")
     amb = site_ambient(site)
-    _warn(amb.earth.warning)
+    for w in amb.warnings:
+        _warn(w)
     inp = plan_inputs_from_site(site, amb.in_force_cage_nT, shape=shape, minimise=minimise, spacing=spacing,
                                 max_field_step_nT=max_field_step_nT)
     return amb, inp, plan_cage(inp)
@@ -231,7 +278,8 @@ def design_table(plan, inp, packs=()) -> str:
     """The per-axis summary of ``cage design``; ``packs``: optional winding-pack differences."""
     rows = [
         ("shape", lambda a: a.pair.shape, ""),
-        ("size (side or radius)", lambda a: f"{a.pair.size_m:.3f}", "m"),
+        ("side (square) or diameter (round)",
+         lambda a: f"{a.pair.size_m * (1 if a.pair.shape == 'square' else 2):.3f}", "m"),
         ("spacing", lambda a: f"{a.pair.spacing_m:.3f}", "m"),
         ("turns per coil", lambda a: f"{a.pair.turns}", ""),
         ("wire", lambda a: a.wire, ""),
@@ -297,6 +345,20 @@ def _field_slew_uT_per_s(axis_plan) -> float:
                                axis_plan.field_per_amp_nT) / 1000.0
 
 
+def _stamped_design(design_obj, site, amb, warnings):
+    """The design with its provenance: it fixes the cage's true azimuth (cage.provenance)."""
+    from cage.provenance import design_id, stamp_design
+
+    return stamp_design(design_obj, _field_provenance(site, amb, design_id(design_obj), warnings))
+
+
+def _check_out(out, *inputs) -> None:
+    """--out must not name one of the command's own inputs (cage.outputs)."""
+    from cage.outputs import refuse_overwriting_inputs
+
+    refuse_overwriting_inputs(out, [p for p in inputs if p is not None])
+
+
 def _design_cautions(plan, inp) -> list[str]:
     out = list(plan.warnings)
     if any(a.electrics.winding_temperature_C > 50.0 for a in plan.axes):
@@ -324,10 +386,12 @@ def design(
     from cage.optimise import design_from_plan
 
     site = sitefile.load_site(site_file)
+    _check_out(out, site_file)
     amb, inp, plan = _plan_from_site(site, shape, minimise, spacing, max_field_step_nT)
-    design_obj = design_from_plan(plan, inp, site, amb)
+    design_obj = _stamped_design(design_from_plan(plan, inp, site, amb), site, amb, _design_cautions(plan, inp))
     save_design(out, design_obj)
-    _say(f"Design for {site.name} ({amb.source} field, {amb.earth.date.isoformat()})")
+    _say(f"Design for {site.name} ({amb.source} field, {amb.earth.date.isoformat()}); "
+         f"cage +x at {design_obj.site['heading_note']}")
     _say(design_table(plan, inp, _packs_of(design_obj)))
     for line in _design_cautions(plan, inp):
         _warn(line)
@@ -352,11 +416,13 @@ def compare(
     from cage.optimise import plan_inputs_from_site
 
     site = sitefile.load_site(site_file)
+    _check_out(plot, site_file)
     values = parse_sizes(sizes)
     if site.room is None:
         raise InputError(f"{site.source}: no [room] table; compare needs the room the cage must fit")
     amb = site_ambient(site)
-    _warn(amb.earth.warning)
+    for w in amb.warnings:
+        _warn(w)
     inp = plan_inputs_from_site(site, amb.in_force_cage_nT, shape=shape, minimise=minimise)
     if sys.stderr.isatty() and not as_json:
         with typer.progressbar(length=len(values), label="sizes", file=sys.stderr) as bar:
@@ -372,7 +438,8 @@ def compare(
         from cage.atomicfile import write_bytes
         from cage.plots import compare_figure, png_bytes
 
-        fig = compare_figure([r.as_dict() for r in rows], room_limit, inp.uniformity)
+        fig = compare_figure([r.as_dict() for r in rows], room_limit, inp.uniformity,
+                             required_cube_m=float(max(inp.test_volume_m)))
         write_bytes(plot, png_bytes(fig))
     if as_json:
         typer.echo(_dump_json({"format": "cage-compare", "version": 1, "site": site.name,
@@ -456,16 +523,21 @@ class _Context:
     ambient_nT: object
     source: str
     warnings: tuple
+    provenance: object = None
 
 
-def _setpoint_context(design, site, calibration_file=None) -> _Context:
+def _setpoint_context(design, site, calibration_file=None, heading_explicit: bool = False) -> _Context:
     """Supplies, temperatures, field in force and warnings for a design used at a site."""
     from cage.ambient import site_ambient
+    from cage.provenance import design_id, make_provenance
     from cage.setpoints import reuse_warnings
     from cage.supplies import supply_for_axis, validate_supply
 
+    from cage.reuse import calibration_ambient, site_for_design
+
+    site, heading_note, warnings = site_for_design(design, site, heading_explicit)
     amb = site_ambient(site)
-    warnings = [amb.earth.warning] if amb.earth.warning else []
+    warnings = list(amb.warnings) + warnings
     if site.supplies:
         for i, s in enumerate(site.supplies):
             validate_supply(s, f"{site.source}: supply[{i}] (axis {s.axis})")
@@ -487,13 +559,19 @@ def _setpoint_context(design, site, calibration_file=None) -> _Context:
         ambient_C = _number_or(req.get("ambient_temperature_C"), 22.0)
         max_C = _number_or(req.get("max_winding_temperature_C"), None)
     coupling, ambient_nT, source = None, amb.in_force_cage_nT, amb.source
+    identity = design_id(design)
+    derived = {"design": identity, "site_file": "" if site.source == "command line" else site.source,
+               "survey": site.measured.date.isoformat() if site.measured is not None else ""}
     if calibration_file is not None:
-        from cage.calibrationfile import load_calibration
+        from cage.calibrationfile import load_calibration_record
 
-        fit = load_calibration(calibration_file)
-        coupling, ambient_nT, source = fit.coupling_nT_per_A, fit.offset_nT, "calibration"
+        coupling, ambient_nT, source, notes = calibration_ambient(
+            load_calibration_record(calibration_file), str(calibration_file), identity, site, amb)
+        warnings += notes
+        derived["calibration"] = str(calibration_file)
     warnings += reuse_warnings(design, supplies, site.room)
-    return _Context(amb, supplies, extra_nT, ambient_C, max_C, coupling, ambient_nT, source, tuple(warnings))
+    prov = make_provenance(site, amb, derived_from=derived, heading_note=heading_note)
+    return _Context(amb, supplies, extra_nT, ambient_C, max_C, coupling, ambient_nT, source, tuple(warnings), prov)
 
 
 def _number_or(value, default):
@@ -511,7 +589,7 @@ def _table(design, site, ctx: _Context, targets, times=(None, None)):
     return setpoint_table(design, ctx.ambient_nT, ctx.supplies, targets, site=site.name, date=site.date,
                           source=ctx.source, coupling_nT_per_A=ctx.coupling, ambient_temperature_C=ctx.ambient_C,
                           max_winding_temperature_C=ctx.max_C, warnings=ctx.warnings, t_s=times[0],
-                          dwell_s=times[1])
+                          dwell_s=times[1], provenance=ctx.provenance)
 
 
 def _flag_rows(table, limit: int = 10):
@@ -529,14 +607,14 @@ def _flag_rows(table, limit: int = 10):
         f"{', '.join(for_terminal(b) for b in bad[:limit])}{more}",))
 
 
-def build_setpoints(design, site, *, targets_file=None, calibration_file=None):
+def build_setpoints(design, site, *, targets_file=None, calibration_file=None, heading_explicit=False):
     """The standard and user rows of a design at a site (model, survey, or calibration)."""
     import numpy as np
 
     from cage.frames import ned_to_cage
     from cage.setpoints import standard_targets
 
-    ctx = _setpoint_context(design, site, calibration_file)
+    ctx = _setpoint_context(design, site, calibration_file, heading_explicit)
     targets = standard_targets(ctx.extra_nT)
     if targets_file is not None:
         from cage.targetfile import read_targets_csv
@@ -647,7 +725,15 @@ def setpoints(
     old = load_table_json(previous) if previous is not None else None
     if not (drift_threshold_nT > 0 and drift_threshold_nT < 1e6):
         raise InputError(f"--drift-threshold-nT must be a positive number of nT, got {drift_threshold_nT:g}")
-    amb, table = build_setpoints(design_obj, site, targets_file=targets, calibration_file=calibration)
+    _check_out(out, design_file, site_file, targets, previous, calibration)
+    amb, table = build_setpoints(design_obj, site, targets_file=targets, calibration_file=calibration,
+                                 heading_explicit=heading_deg is not None or heading_magnetic)
+    if old is not None:
+        from cage.reuse import previous_problems
+        from cage.setpoints import table_to_dict
+
+        table = dataclasses.replace(table, warnings=table.warnings + tuple(
+            previous_problems(old, table_to_dict(table), f"--previous {previous}")))
     for w in table.warnings:
         _warn(w)
     text = setpoints_text(table) + "\n" if kind == "table" else render(table, kind)
@@ -700,25 +786,51 @@ def make_figures(design_obj, design_doc: dict, setpoints_doc: Optional[dict]) ->
     figs = {
         "uniformity.png": plots.uniformity_maps_figure(design_obj.cage, volume, tol),
         "axis_lines.png": plots.axis_lines_figure(design_obj.cage, volume, tol),
-        "cage_in_room.png": plots.cage_in_room_figure(design_obj.cage, frame, room, volume),
+        "cage_in_room.png": plots.cage_in_room_figure(design_obj.cage, frame, room, volume,
+                                                      _number_or((design_doc.get("site") or {}).get("heading_true_deg"),
+                                                                 None)),
     }
     if setpoints_doc is not None:
         figs["setpoints.png"] = plots.setpoints_figure(setpoints_doc)
     return {name: plots.png_bytes(fig) for name, fig in figs.items()}
 
 
-def write_report(folder: Path, field_doc, design_doc, setpoints_doc, pngs: dict) -> Path:
-    from cage.atomicfile import write_bytes, write_text
+def report_html(field_doc, design_doc, setpoints_doc, pngs: dict, build_doc=None, build_pngs=None) -> str:
+    """The stand-alone report.html text, with the provenance of its documents as notes."""
     from cage.report import build_report
 
-    for name, data in pngs.items():
-        write_bytes(folder / name, data)
     title = "Coil cage report"
     if isinstance(field_doc, dict) and field_doc.get("site"):
         title += f": {field_doc['site']}"
-    html = build_report(field=field_doc, design=design_doc, setpoints=setpoints_doc,
-                        figures={FIGURES[name]: data for name, data in pngs.items()}, title=title)
-    return write_text(folder / "report.html", html)
+    notes = []
+    for name, doc in (("field", field_doc), ("design", design_doc), ("setpoints", setpoints_doc)):
+        prov = doc.get("provenance") if isinstance(doc, dict) else None
+        if isinstance(prov, dict):
+            from cage.provenance import header_lines
+
+            notes += [f"{name}: {line}" for line in header_lines(prov, prefix="")]
+    return build_report(field=field_doc, design=design_doc, setpoints=setpoints_doc,
+                        figures={FIGURES[name]: data for name, data in pngs.items()}, title=title, notes=notes,
+                        build=build_doc, build_figures=build_pngs)
+
+
+def report_files(field_doc, design_doc, setpoints_doc, pngs: dict) -> dict:
+    """The report's files (name -> bytes or text): figures, build sheet CSV and figures, report.html."""
+    from cage.cmd_build import bom_csv, report_build
+
+    sheet, build_doc, build_pngs = report_build(design_doc)
+    html = report_html(field_doc, design_doc, setpoints_doc, pngs, build_doc, build_pngs)
+    return {**pngs, **build_pngs, "build.csv": bom_csv(sheet), "report.html": html}
+
+
+def write_report(folder: Path, field_doc, design_doc, setpoints_doc, pngs: dict) -> Path:
+    from cage.atomicfile import write_bytes, write_text
+
+    files = report_files(field_doc, design_doc, setpoints_doc, pngs)
+    for name, data in files.items():
+        if name != "report.html":
+            (write_text if isinstance(data, str) else write_bytes)(folder / name, data)
+    return write_text(folder / "report.html", files["report.html"])
 
 
 def _read_json(path: Path, what: str) -> Optional[dict]:
@@ -731,6 +843,7 @@ def _read_json(path: Path, what: str) -> Optional[dict]:
 def report(
     folder: Path = typer.Argument(..., help="A plan folder with design.json (and field.json, setpoints.json).",
                                   show_default=False),
+    pdf: bool = typer.Option(False, "--pdf", help="Also print report.pdf (needs a headless Chromium)."),
 ):
     """Write the stand-alone report.html (figures embedded) for a plan folder."""
 
@@ -745,9 +858,22 @@ def report(
     setpoints_doc = _read_json(folder / "setpoints.json", "a setpoints table")
     if setpoints_doc is not None and setpoints_doc.get("format") != "cage-setpoints":
         raise InputError(f"{folder / 'setpoints.json'}: not a cage-setpoints file")
+    from cage.provenance import design_id
+    from cage.reuse import mixed_inputs
+
+    docs = {"design.json": {"provenance": {**(design_doc.get("provenance") or {}),
+                                           "derived_from": {"design": design_id(design_obj)}}},
+            "field.json": field_doc, "setpoints.json": setpoints_doc}
+    problem = mixed_inputs(docs)
+    if problem:
+        raise InputError(f"{folder}: the files are from different runs: {problem}; run cage plan again")
     pngs = make_figures(design_obj, design_doc, setpoints_doc)
     path = write_report(folder, field_doc, design_doc, setpoints_doc, pngs)
-    _say(f"Wrote {path} and {', '.join(pngs)}")
+    _say(f"Wrote {path}, build.csv, connection_x/y/z.png and {', '.join(pngs)}")
+    if pdf:
+        from cage.pdfexport import html_to_pdf
+
+        _say(f"Wrote {html_to_pdf(path, folder / 'report.pdf')}")
 
 
 # ----------------------------------------------------------------------------- plan
@@ -762,42 +888,38 @@ def plan(
 ):
     """The main job: field, design, setpoints (CSV, JSON, SCPI), figures and report, into one folder."""
     from cage import sitefile
-    from cage.ambient import site_ambient
-    from cage.atomicfile import write_text
     from cage.designfile import design_to_json
     from cage.optimise import design_from_plan
     from cage.setpointfile import render
 
     site = sitefile.load_site(site_file)
-    if out.exists() and not out.is_dir():
-        raise InputError(f"{out}: exists and is not a folder")
+    from cage.outputs import check_replaceable, refuse_overwriting_inputs, write_folder
+
+    refuse_overwriting_inputs(out, [p for p in (site_file, targets) if p is not None], folder=True)
+    check_replaceable(out, ())
     amb, inp, plan_obj = _plan_from_site(site, shape, minimise, "flat", None)
-    design_obj = design_from_plan(plan_obj, inp, site, amb)
+    design_obj = _stamped_design(design_from_plan(plan_obj, inp, site, amb), site, amb,
+                                 _design_cautions(plan_obj, inp))
     _, table = build_setpoints(design_obj, site, targets_file=targets)
     texts = {
-        "field.json": _dump_json(field_summary(site, site_ambient(site))),
+        "field.json": _dump_json(field_summary(site, amb, design_obj.provenance["derived_from"]["design"])),
         "design.json": design_to_json(design_obj),
         "setpoints.csv": render(table, "csv"),
         "setpoints.json": render(table, "json"),
         "setpoints.scpi": render(table, "scpi"),
     }
-    try:
-        out.mkdir(parents=True, exist_ok=True)
-    except OSError as exc:
-        raise InputError(f"{out}: cannot make the folder ({exc.strerror})") from None
-    for name, text in texts.items():
-        write_text(out / name, text)
     design_doc = json.loads(texts["design.json"])
     setpoints_doc = json.loads(texts["setpoints.json"])
     pngs = make_figures(design_obj, design_doc, setpoints_doc)
-    write_report(out, json.loads(texts["field.json"]), design_doc, setpoints_doc, pngs)
-    _say(f"Plan for {site.name} ({amb.source} field, {amb.earth.date.isoformat()}) in {out}/")
+    write_folder(out, {**texts, **report_files(json.loads(texts["field.json"]), design_doc, setpoints_doc, pngs)})
+    _say(f"Plan for {site.name} ({amb.source} field, {amb.earth.date.isoformat()}) in {out}/; "
+         f"cage +x at {design_obj.site['heading_note']}")
     _say(design_table(plan_obj, inp, _packs_of(design_obj)))
     _say("")
     _say(setpoints_text(table))
     for line in _design_cautions(plan_obj, inp) + list(table.warnings):
         _warn(line)
-    _say("Wrote " + ", ".join(list(texts) + list(pngs) + ["report.html"]))
+    _say("Wrote " + ", ".join(list(texts) + list(pngs) + ["connection_x/y/z.png", "build.csv", "report.html"]))
 
 
 # ----------------------------------------------------------------------------- calibrate
@@ -842,11 +964,15 @@ def calibrate(
                                                           "the current set (CSV)."),
     sensor_range_uT: float = typer.Option(100.0, "--sensor-range-uT", help="With --suggest: the magnetometer's "
                                           "full scale per axis (uT); no suggested set takes it past 90 %."),
+    site_file: Optional[Path] = typer.Option(None, "--site", help="Site file of the readings (default: the "
+                                                                 "design's site)."),
+    date: Optional[str] = typer.Option(None, "--date", help="Day of the readings YYYY-MM-DD (default today UTC)."),
 ):
     """Fit the built cage from magnetometer readings: offset, coupling, corrected null currents."""
     from cage.atomicfile import write_text
     from cage.setpoints import design_coupling_nT_per_A
 
+    _check_out(out, design_file, data_file, site_file)
     design_obj = _load_checked_design(design_file)
     if suggest:
         from cage import sitefile
@@ -892,7 +1018,10 @@ def calibrate(
     check = build_check(fit, design_coupling_nT_per_A(design_obj))
     summary = calibration_summary(fit, check, readings.line_numbers)
     if out is not None:
-        save_calibration(out, fit, source_file=str(data_file), design=str(design_file))
+        prov = _calibration_provenance(design_obj, site_file, date, data_file)
+        save_calibration(out, fit, source_file=str(data_file), design=str(design_file), provenance=prov.as_dict())
+        for w in prov.warnings:
+            _warn(w)
     if as_json:
         typer.echo(_dump_json(summary), nl=False)
     else:
@@ -915,6 +1044,42 @@ def _suggest_tops(design_obj, site, supplies):
         why.append(f"{axis} up to {0.8 * drivable:.3f} A" + ("" if drivable >= s.max_current_A
                                                              else " (voltage-limited)"))
     return tops, why
+
+
+def _calibration_provenance(design_obj, site_file, date, data_file):
+    """Where and when a calibration's offset holds: the readings' site and day, the design's azimuth."""
+    from cage import sitefile
+
+    if site_file is not None:
+        site = sitefile.load_site(site_file)
+    else:
+        rec = design_obj.site or {}
+        try:
+            location = sitefile.check_location(rec["latitude_deg"], rec["longitude_deg"], rec.get("altitude_m", 0.0),
+                                               "design file: site")
+        except (KeyError, TypeError):
+            raise InputError("the design records no site position; give --site SITE.toml for the readings") from None
+        site = sitefile.Site(name=str(rec.get("name", "")), date=sitefile.today_utc(), date_given=False,
+                             location=location, orientation=sitefile.Orientation(stated=False), room=None,
+                             requirement=sitefile.Requirement(), coil=sitefile.CoilSettings(), supplies=(),
+                             measured=None, source=str(rec.get("file", "design file")))
+    warnings = []
+    if date is not None:
+        site = dataclasses.replace(site, date=sitefile.parse_date(date, "--date"))
+    else:
+        site = dataclasses.replace(site, date=sitefile.today_utc())
+        warnings.append(f"the calibration is dated today ({site.date.isoformat()}); give --date for the day of "
+                        f"the readings")
+    from cage.reuse import site_for_design
+
+    site, heading_note, more = site_for_design(design_obj, site, False)
+    from cage.ambient import site_ambient
+    from cage.provenance import design_id, make_provenance
+
+    site = dataclasses.replace(site, measured=None)
+    amb = site_ambient(site)
+    return make_provenance(site, amb, derived_from={"design": design_id(design_obj), "readings": str(data_file)},
+                           warnings=tuple(amb.warnings) + tuple(more) + tuple(warnings), heading_note=heading_note)
 
 
 # ----------------------------------------------------------------------------- sequence
@@ -980,6 +1145,8 @@ def sequence(
     design_obj = _load_checked_design(design_file)
     site = sitefile.load_site(site_file)
     kind = _infer_format(fmt, out)
+    _check_out(out, design_file, site_file, series, orbit, calibration)
+    _check_out(plot, design_file, site_file, series, orbit, calibration)
     ctx = _setpoint_context(design_obj, site, calibration)
     from cage.frames import ned_to_cage
 
@@ -1078,6 +1245,10 @@ def sequence(
 
 # ----------------------------------------------------------------------------- commands in their own modules
 
+from cage import cmd_build as _cmd_build  # noqa: E402
+
+_cmd_build.register(app)
+
 from cage import cmd_orbit as _cmd_orbit  # noqa: E402
 from cage import cmd_tolerance as _cmd_tolerance  # noqa: E402
 
@@ -1090,6 +1261,11 @@ _cmd_orbit.register(app)
 def main(argv: Optional[list[str]] = None) -> None:
     """Run the command line; user errors end in one line on stderr and a non-zero exit."""
     try:
+        from cage.outputs import trailing_slash_problem
+
+        problem = trailing_slash_problem(sys.argv[1:] if argv is None else argv)
+        if problem:
+            raise InputError(problem)
         app(args=argv, prog_name="cage")
     except CageError as exc:
         typer.echo(f"cage: {_visible(exc)}".replace("\n", " "), err=True)

@@ -29,7 +29,11 @@ MAX_SIZES = 400
 
 @dataclass(frozen=True)
 class CompareRow:
-    """The best cage at one outer size (metres), or the reason there is none."""
+    """The best cage at one outer size (metres), or the reason there is none.
+
+    outer_size_m: side (square) or diameter (round) of the outermost centreline. sizes_m: each
+    pair's ``CoilPair.size_m`` (side or radius); ``as_dict`` gives them as sides or diameters.
+    """
 
     outer_size_m: float
     feasible: bool
@@ -48,7 +52,10 @@ class CompareRow:
         return {
             "outer_size_m": self.outer_size_m, "feasible": self.feasible, "reason": self.reason,
             "shape": self.shape, "order_outermost_first": list(self.order),
-            "sizes_m": None if self.sizes_m is None else dict(zip(AXES, self.sizes_m)),
+            # one measure throughout: side (square) or diameter (round), as outer_size_m
+            "size_kind": "side" if self.shape == "square" else "diameter" if self.shape == "round" else None,
+            "centreline_sizes_m": None if self.sizes_m is None else dict(zip(AXES, (
+                v if self.shape == "square" else 2.0 * v for v in self.sizes_m))),
             "envelope_m": None if self.envelope_m is None else list(self.envelope_m),
             "uniform_cube_m": self.uniform_cube_m, "total_power_W": self.total_power_W,
             "copper_mass_kg": self.copper_mass_kg, "fits_room": self.fits_room,

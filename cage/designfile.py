@@ -12,7 +12,8 @@ Per axis, required: ``shape`` ("square" or "round"), ``side_m`` (square: side of
 centreline) or ``radius_m`` (round: radius of the centreline), ``spacing_m`` (distance between
 the two coil planes) and ``turns`` (per coil). Optional per axis: ``wire`` (a name) and the
 positive numbers in ``OPTIONAL_AXIS_NUMBERS``. Optional top level, kept verbatim: ``site``,
-``requirement``, ``layout`` (objects), ``envelope_m`` (a list of numbers), ``notes`` (text).
+``requirement``, ``layout``, ``provenance`` (objects; see cage.provenance), ``envelope_m`` (a list
+of numbers), ``notes`` (text).
 
 Version 2 (written when an axis is not a pair; version 1 is still read and written for cages
 of pairs) describes every coil::
@@ -94,8 +95,8 @@ OPTIONAL_AXIS_NUMBERS = (
 _AXIS_KEYS = ("shape", "side_m", "radius_m", "spacing_m", "turns", "wire") + OPTIONAL_AXIS_NUMBERS
 _AXIS_KEYS_V2 = ("system", "shape", "coils", "wire") + OPTIONAL_AXIS_NUMBERS
 _COIL_KEYS = ("position_m", "turns", "side_m", "radius_m")
-_TOP_KEYS = ("format", "version", "axes", "site", "requirement", "layout", "envelope_m", "notes")
-_TOP_OBJECTS = ("site", "requirement", "layout")
+_TOP_KEYS = ("format", "version", "axes", "site", "requirement", "layout", "envelope_m", "notes", "provenance")
+_TOP_OBJECTS = ("site", "requirement", "layout", "provenance")
 
 
 # ---------------------------------------------------------------------------------------------
@@ -194,6 +195,7 @@ class Design:
     layout: dict | None = None
     envelope_m: list | None = None
     notes: str | None = None
+    provenance: dict | None = None  # cage.provenance: where, when and from what it was made
 
     def __post_init__(self):
         axes = tuple(self.axes)

@@ -410,7 +410,7 @@ def _rect(ax, h0, h1, v0, v1, **kw) -> None:
     ax.add_patch(Rectangle((h0, v0), h1 - h0, v1 - v0, fill=False, **kw))
 
 
-def cage_in_room_figure(cage: CoilCage, frame, room, test_volume_m) -> Figure:
+def cage_in_room_figure(cage: CoilCage, frame, room, test_volume_m, heading_deg: float | None = None) -> Figure:
     """The cage in the room in three orthographic views, with the sizes written out.
 
     Top view (x-y, seen from above, +y down the page), front view (x-height, seen from +y),
@@ -423,6 +423,8 @@ def cage_in_room_figure(cage: CoilCage, frame, room, test_volume_m) -> Figure:
     when no room is given).
 
     frame: cage.layout.FrameSpec; room: cage.sitefile.Room or None; test_volume_m: box sides.
+    heading_deg: true azimuth of cage +x; when given, the top view gets a north arrow and the
+    heading (``_north_arrow``).
     """
     from cage.layout import FrameSpec, envelope_m, room_inner_m
 
@@ -540,8 +542,32 @@ def cage_in_room_figure(cage: CoilCage, frame, room, test_volume_m) -> Figure:
 
         _legend_panel(ax_legend, cage, room, legend_cols)
         _info_panel(ax_info, cage, frame, room, env, inner, tv)
+        if heading_deg is not None:
+            _north_arrow(ax_top, heading_deg)
         fig.suptitle("The cage in the room", fontsize=_FS["title"])
     return _finish(fig)
+
+
+def _north_arrow(ax, heading_deg: float) -> None:
+    """A north arrow and the heading in the top view (x to the right, +y down the page).
+
+    Cage +x is at heading h clockwise from true north, +y 90 degrees further, so north is
+    (cos h, -sin h) in (x, y); with +y down the page that is (cos h, sin h) on the page.
+    """
+    from cage.numberformat import azimuth_text
+
+    h = math.radians(float(heading_deg))
+    dx, dy = math.cos(h), math.sin(h)
+    length = 22.0  # points
+    tip = (0.9, 0.8)
+    ax.annotate("", xy=tip, xycoords="axes fraction", xytext=(-length * dx, -length * dy),
+                textcoords="offset points", arrowprops=dict(arrowstyle="-|>", color="black", linewidth=1.2),
+                gid="north-arrow")
+    ax.annotate("N", xy=tip, xycoords="axes fraction", xytext=(6 * dx, 6 * dy), textcoords="offset points",
+                ha="center", va="center", fontsize=_FS["base"], fontweight="bold")
+    ax.text(0.97, 0.72, f"+x heading\n{azimuth_text(heading_deg, 1)}° true", transform=ax.transAxes,
+            ha="right", va="top", fontsize=_FS["small"], color="0.2", gid="heading",
+            bbox=dict(facecolor="white", edgecolor="none", pad=0.6, alpha=0.8))
 
 
 def _legend_panel(ax, cage, room, ncol: int) -> None:
@@ -584,8 +610,8 @@ def _info_panel(ax, cage, frame, room, env, inner, tv) -> None:
     left.append(f"Test volume  {tv[0]:.2f} × {tv[1]:.2f} × {tv[2]:.2f} m")
     right = []
     for pair in cage.pairs:
-        size = "side" if pair.shape == "square" else "radius"
-        right.append(f"{pair.axis} pair  {pair.shape}, {size} {pair.size_m:.3f} m, "
+        size, value = ("side", pair.size_m) if pair.shape == "square" else ("diameter", 2 * pair.size_m)
+        right.append(f"{pair.axis} pair  {pair.shape}, {size} {value:.3f} m, "
                      f"spacing {pair.spacing_m:.3f} m, {pair.turns} turns")
     right.append(f"Frames  {frame.width_m * 1000:.0f} × {frame.depth_m * 1000:.0f} mm "
                  f"(along the axis × radial), gap {frame.gap_m * 1000:.0f} mm")
@@ -600,6 +626,19 @@ def _info_panel(ax, cage, frame, room, env, inner, tv) -> None:
 # ---------------------------------------------------------------------------------------------
 
 
+def _compare_marks(ax, size, cube, shapes, required_cube_m) -> None:
+    """The required cube edge as a line, and each point's coil shape as a letter (s square, r round)."""
+    if required_cube_m is not None and math.isfinite(float(required_cube_m)):
+        ax.axhline(float(required_cube_m), color="#b00020", linestyle="-.", linewidth=1.1, gid="required-cube",
+                   label=f"required: test volume's largest side {float(required_cube_m):.2f} m")
+    for xs, ys, shape in zip(size, cube, shapes):
+        if shape in ("square", "round") and np.isfinite(ys):
+            ax.annotate(shape[0], xy=(xs, ys), xytext=(0, 5), textcoords="offset points", ha="center",
+                        fontsize=_FS["small"], color="0.25", gid=f"shape-{shape}")
+    if any(sh in ("square", "round") for sh in shapes):
+        ax.plot([], [], linestyle="none", label="letters: s square, r round pairs")
+
+
 def _num_or_nan(value) -> float:
     if value is None or isinstance(value, bool):
         return math.nan
@@ -610,7 +649,8 @@ def _num_or_nan(value) -> float:
     return v if math.isfinite(v) else math.nan
 
 
-def compare_figure(rows, room_limit_m: float | None, tolerance: float) -> Figure:
+def compare_figure(rows, room_limit_m: float | None, tolerance: float,
+                   required_cube_m: float | None = None) -> Figure:
     """Total power, copper mass and uniform cube edge against the cage's outer size.
 
     rows: dicts with outer_size_m (float), feasible (bool), total_power_W, uniform_cube_m,
@@ -655,6 +695,7 @@ def compare_figure(rows, room_limit_m: float | None, tolerance: float) -> Figure
         series(ax_p, power, "#1f5fbf", "o", "total power (W)")
         series(ax_m, mass, "#8a5a00", "s", "copper mass (kg)", linestyle="--")
         series(ax_c, cube, "#23864b", "o", "uniform cube edge (m)")
+        _compare_marks(ax_c, size, cube, [str(r.get("shape") or "") for r in data], required_cube_m)
         for ax in (ax_p, ax_c):
             bad = ~feasible
             if bad.any():
@@ -696,6 +737,25 @@ def compare_figure(rows, room_limit_m: float | None, tolerance: float) -> Figure
 # ---------------------------------------------------------------------------------------------
 # Setpoints and sequences
 # ---------------------------------------------------------------------------------------------
+
+
+def _mark_beyond(ax, x, w, values, low: float, high: float, unit: str) -> None:
+    """Bars beyond the panel's range (rows outside the limits): a red triangle at the edge, the value beside it.
+
+    The panel is scaled to the rows within limits, so one wild row does not flatten the others.
+    """
+    for j in range(values.shape[1]):
+        for i, v in enumerate(values[:, j]):
+            if low <= v <= high or v != v:  # NaN: an unreachable axis has no bar
+                continue
+            edge = high if v > high else low
+            xi = x[i] + (j - 1) * w
+            ax.plot([xi], [edge], marker="^" if v > high else "v", color="#b00020", markersize=7,
+                    clip_on=False, zorder=5, gid="beyond-range")
+            ax.annotate(f"{v:,.0f} {unit}" if abs(v) >= 100 else f"{v:.3g} {unit}", xy=(xi, edge), xytext=(0, -9 if v > high else 9),
+                        textcoords="offset points", fontsize=_FS["small"], color="#b00020",
+                        ha="center", va="top" if v > high else "bottom",
+                        bbox=dict(facecolor="white", edgecolor="none", pad=0.4, alpha=0.85))
 
 
 def _axis_limit(doc: dict, axis: str) -> float:
@@ -792,8 +852,10 @@ def setpoints_figure(doc: dict) -> Figure:
                 ax_i.axhline(sign * value, color=colour, linestyle="--", linewidth=1.0, gid="limit",
                              label=f"{who} limit ±{value:g} A" if sign > 0 else None)
         ax_i.axhline(0.0, color="0.3", linewidth=0.6)
-        top = 1.15 * max(max(limits.values()), float(np.abs(current).max()))
+        shown = current[ok] if ok.any() else np.zeros((1, 3))
+        top = 1.15 * max(max(limits.values()), float(np.abs(shown).max()))
         ax_i.set_ylim(-top, top)
+        _mark_beyond(ax_i, x, w, current, -top, top, "A")
         ax_i.set_ylabel("coil current (A)")
         handles, labs = ax_i.get_legend_handles_labels()
         unipolar = [a for a in AXES if not _bipolar(doc, a)]
@@ -805,11 +867,15 @@ def setpoints_figure(doc: dict) -> Figure:
         ax_i.grid(True, axis="y", linewidth=0.4, alpha=0.5)
         ax_p.set_ylabel("power (W)")
         ax_p.grid(True, axis="y", linewidth=0.4, alpha=0.5)
-        pmax = float(max(np.nanmax(power, initial=0.0), 1e-9))
+        pmax = float(max(np.nanmax(power[ok] if ok.any() else power, initial=0.0), 1e-9))
         ax_p.set_ylim(0.0, 1.22 * pmax)
+        _mark_beyond(ax_p, x, w, power, 0.0, 1.22 * pmax, "W")
         if nrow <= 16:
             for i in range(nrow):
-                ax_p.text(x[i], np.nanmax(power[i], initial=0.0) + 0.03 * pmax,
+                top_w = np.nanmax(power[i], initial=0.0)
+                if top_w > 1.22 * pmax:
+                    continue  # beyond the panel: _mark_beyond writes its value
+                ax_p.text(x[i], top_w + 0.03 * pmax,
                           f"{total[i]:.1f} W" if np.isfinite(total[i]) else "unreachable", ha="center",
                           va="bottom", fontsize=_FS["small"], rotation=90 if nrow > 8 else 0)
         ax_p.legend(handles=[Patch(color=AXIS_COLOURS[a], label=f"{a} power") for a in AXES]

@@ -232,6 +232,18 @@ def _section(anchor: str, title: str, body: str, major: bool = True, extra_class
     return f'<section id="{anchor}"{attr}>\n<h2>{_esc(title)}</h2>\n{body}\n</section>'
 
 
+def _place(value, kind: str) -> str:
+    """Latitude N/S, longitude E/W or an azimuth in 0-360 degrees (cage.numberformat), escaped."""
+    from cage.numberformat import azimuth_text, latitude_text, longitude_text
+
+    v = _number(value)
+    if v is None:
+        return _fmt(value, 4)
+    if kind == "azimuth":
+        return _esc(azimuth_text(v) + "°")
+    return _esc((latitude_text if kind == "lat" else longitude_text)(v, 4, "°"))
+
+
 def _field_section(field: Mapping) -> str:
     parts = []
     site = field.get("site") or field.get("name")
@@ -241,10 +253,10 @@ def _field_section(field: Mapping) -> str:
     pairs += [
         ("field model", _esc(field.get("model", DASH))),
         ("date", _esc(field.get("date", DASH))),
-        ("latitude (geodetic, north positive)", _fmt(field.get("lat_deg"), 4, "°")),
-        ("longitude (east positive)", _fmt(field.get("lon_deg"), 4, "°")),
+        ("latitude (geodetic)", _place(field.get("lat_deg"), "lat")),
+        ("longitude", _place(field.get("lon_deg"), "lon")),
         ("altitude above the WGS84 ellipsoid", _fmt(field.get("alt_m"), 1, "m")),
-        ("heading of cage +x (true azimuth, clockwise from north)", _fmt(field.get("heading_deg"), 2, "°")),
+        ("heading of cage +x (true azimuth, clockwise from north)", _place(field.get("heading_deg"), "azimuth")),
     ]
     parts.append("<h3>Site</h3>")
     parts.append(_kv_table(pairs))
@@ -293,8 +305,8 @@ def _design_section(design: Mapping) -> str:
     def size(d):
         if "side_m" in d:
             return _fmt(d.get("side_m"), 3, "m") + " side"
-        if "radius_m" in d:
-            return _fmt(d.get("radius_m"), 3, "m") + " radius"
+        if _number(d.get("radius_m")) is not None:  # sizes read as diameters, as in the build sheet
+            return _fmt(2 * _number(d.get("radius_m")), 3, "m") + " diameter"
         return DASH
 
     def field_at_max(d):
@@ -319,12 +331,9 @@ def _design_section(design: Mapping) -> str:
     if isinstance(env, (list, tuple)) and len(env) == 3:
         parts.append(f"<p>Outer envelope of the frames (x × y × z): "
                      f"{' × '.join(_fmt(v, 3) for v in env)}{NBSP}m.</p>")
-    for key, title in (("requirement", "Requirement"), ("layout", "Layout")):
-        obj = design.get(key)
-        if isinstance(obj, Mapping) and obj:
-            parts.append(f"<h3>{_esc(title)}</h3>")
-            parts.append(_table(("key (unit in the name)", "value"),
-                                [(_esc(k), _auto(v)) for k, v in obj.items()], numeric_from=2))
+    from cage.reportsections import requirement_and_layout
+
+    parts.append(requirement_and_layout(design))
     if design.get("notes"):
         parts.append(f"<p class=\"note\">{_esc(design['notes'])}</p>")
     return _section("design", "Design", "\n".join(parts))
@@ -479,12 +488,14 @@ def _get(values, axis: str, index: int):
 
 
 def _figures_section(figures: Mapping[str, bytes]) -> str:
-    parts = []
-    for title, data in figures.items():
-        b64 = base64.b64encode(bytes(data)).decode("ascii")
-        parts.append(f'<figure><img alt="{_esc(title)}" src="data:image/png;base64,{b64}">'
-                     f"<figcaption>{_esc(title)}</figcaption></figure>")
-    return _section("figures", "Figures", "\n".join(parts))
+    return _section("figures", "Figures", "\n".join(figure_html(t, d) for t, d in figures.items()))
+
+
+def figure_html(title: str, data: bytes) -> str:
+    """One embedded PNG figure with its caption."""
+    b64 = base64.b64encode(bytes(data)).decode("ascii")
+    return (f'<figure><img alt="{_esc(title)}" src="data:image/png;base64,{b64}">'
+            f"<figcaption>{_esc(title)}</figcaption></figure>")
 
 
 def _dl(items) -> str:
@@ -498,12 +509,15 @@ def _dl(items) -> str:
 
 def build_report(*, field: Mapping | None = None, design: Mapping | None = None,
                  setpoints: Mapping | None = None, figures: Mapping[str, bytes] | None = None,
-                 notes: Sequence[str] = (), title: str = "Coil cage report") -> str:
+                 notes: Sequence[str] = (), title: str = "Coil cage report",
+                 build: Mapping | None = None, build_figures: Mapping[str, bytes] | None = None) -> str:
     """One self-contained HTML document (str) from the parsed documents and PNG figures.
 
     field: the object ``cage field --json`` prints (model, date, lat_deg, ..., cage_frame_nT);
     design: a ``cage-design`` v1 document; setpoints: a ``cage-setpoints`` v1 document;
     figures: title -> PNG bytes, embedded in the given order; notes: free text lines.
+    build: a ``cage-build`` document (``cage build --json``) and build_figures its connection
+    figures {"connection_x.png": PNG bytes, ...} (``cage.reportsections.build_section``).
     A document that is None leaves its sections out. Raises InputError when a figure is not
     PNG data or a document is not an object.
     """
@@ -531,6 +545,11 @@ def build_report(*, field: Mapping | None = None, design: Mapping | None = None,
         if budget:
             sections.append(budget)
             toc.append(("budget", "Electrical and thermal budget"))
+    if build is not None:
+        from cage.reportsections import build_section
+
+        sections.append(build_section(build, build_figures or {}))
+        toc.append(("build", "Build sheet"))
     if setpoints is not None:
         sections.append(_setpoints_section(setpoints))
         toc.append(("setpoints", "Setpoints"))
@@ -554,7 +573,13 @@ def build_report(*, field: Mapping | None = None, design: Mapping | None = None,
     model = (field or {}).get("model")
     if model:
         subtitle_bits.append(f"field model: {model}")
+    from cage import __version__
+
+    subtitle_bits.append(f"made by cage {__version__}")
     subtitle = f'<p class="sub">{_esc("; ".join(subtitle_bits))}</p>' if subtitle_bits else ""
+    from cage.reportsections import validity_paragraph
+
+    subtitle += validity_paragraph(field)
     nav = ("<nav><ol>" + "".join(f'<li><a href="#{a}">{_esc(t)}</a></li>' for a, t in toc)
            + "</ol></nav>")
 

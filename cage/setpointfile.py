@@ -1,6 +1,6 @@
 """Writers (and one reader) for current tables: CSV, JSON and a SCPI script.
 
-CSV: one row per table row, units in every column name, rounded for people (nT to 0.1,
+CSV: provenance as ``#`` comment lines (cage.provenance), then one row per table row, units in every column name, rounded for people (nT to 0.1,
 currents to the supply's resolution, V to 0.001, W to 0.01); empty cells for numbers that do
 not exist (an unreachable axis); text cells written so that spreadsheets read them as text
 (:func:`cage.escape.csv_text_cell`). JSON (``cage-setpoints``, version 1) keeps full
@@ -55,6 +55,14 @@ def csv_header() -> list[str]:
     return cols + ["total_power_W", "field_error_nT", "within_limits", "problems"]
 
 
+def _provenance_comments(table: SetpointTable) -> str:
+    """The table's provenance as ``#`` comment lines (cage.provenance), or ''."""
+    from cage.provenance import header_lines
+
+    prov = table.provenance_record()
+    return "" if prov is None else "\n".join(header_lines(prov)) + "\n"
+
+
 def _csv_cells(texts) -> list[str]:
     """CSV cells of user texts; one pass over the joined column when nothing needs escaping."""
     texts = list(texts)
@@ -96,7 +104,7 @@ def table_to_csv(table: SetpointTable) -> str:
         problems[r] = _csv_cell("; ".join(table.row_problems(r)))
     labels = _csv_cells(table.labels)
     body = "".join(f"{lab},{mid},{prob}\n" for lab, mid, prob in zip(labels, middle, problems))
-    return ",".join(csv_text_cell(h) for h in csv_header()) + "\n" + body
+    return _provenance_comments(table) + ",".join(csv_text_cell(h) for h in csv_header()) + "\n" + body
 
 
 def table_to_json(table: SetpointTable) -> str:
@@ -139,6 +147,7 @@ def table_to_scpi(table: SetpointTable) -> str:
         "# Channels: x = 1, y = 2, z = 3. Each block sets the voltage limit, then the current, then output on.",
         "# Rows outside limits are commented out. Lines starting with # are comments: never send them.",
     ]
+    lines += _provenance_comments(table).splitlines()
     lines += [_limits_comment(ax, s) for ax, s in zip(AXES, table.supplies)]
     if any(unipolar):
         names = ", ".join(f"{ax} (channel {CHANNELS[ax]})" for ax, u in zip(AXES, unipolar) if u)

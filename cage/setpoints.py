@@ -77,6 +77,11 @@ class SetpointTable:
     t_s: np.ndarray | None = None
     dwell_s: np.ndarray | None = None
     warnings: tuple[str, ...] = ()
+    provenance: object = None  # cage.provenance.Provenance, its warnings completed when written
+
+    def provenance_record(self):
+        """The provenance with every warning of the table, or None."""
+        return None if self.provenance is None else self.provenance.with_warnings(self.warnings)
 
     def __len__(self) -> int:
         return len(self.labels)
@@ -271,8 +276,8 @@ def _as_targets(targets) -> tuple[tuple[str, ...], np.ndarray]:
 
 def setpoint_table(design, ambient_cage_nT, supplies, targets, *, site: str = "", date=None, source: str = "",
                    coupling_nT_per_A=None, ambient_temperature_C: float = 22.0,
-                   max_winding_temperature_C: float | None = None, warnings=(), t_s=None, dwell_s=None
-                   ) -> SetpointTable:
+                   max_winding_temperature_C: float | None = None, warnings=(), t_s=None, dwell_s=None,
+                   provenance=None) -> SetpointTable:
     """The current table for ``targets``: a list of (label, target_cage_nT (3,)), or a pair
     (labels, (m, 3) array).
 
@@ -352,7 +357,7 @@ def setpoint_table(design, ambient_cage_nT, supplies, targets, *, site: str = ""
         problems={r: tuple(tuple(p) for p in v) for r, v in reasons.items()},
         t_s=None if t_s is None else np.asarray(t_s, dtype=float),
         dwell_s=None if dwell_s is None else np.broadcast_to(np.asarray(dwell_s, dtype=float), (m,)).copy(),
-        warnings=tuple(warnings))
+        warnings=tuple(warnings), provenance=provenance)
 
 
 def _finite_or_none(value):
@@ -409,6 +414,7 @@ def table_to_dict(table: SetpointTable) -> dict:
                           for ax, s in zip(AXES, table.supplies)},
         "rows": rows,
         "warnings": list(table.warnings),
+        **({} if table.provenance is None else {"provenance": table.provenance_record().as_dict()}),
     }
 
 
@@ -449,6 +455,23 @@ class Drift:
     days_until_threshold_per_axis: tuple[float, float, float]
 
 
+def days_until_drift(sv_cage_nT_per_year, threshold_nT: float = DRIFT_THRESHOLD_NT) -> float:
+    """Days until the model's secular variation (nT/year, cage frame) moves the null by threshold_nT.
+
+    |dB/dt| t = threshold, with the year as 365.25 days; infinite without secular variation.
+    """
+    rate = float(np.linalg.norm(np.asarray(sv_cage_nT_per_year, dtype=float)))
+    return math.inf if rate == 0 else threshold_nT / rate * 365.25
+
+
+def valid_until(date: _dt.date, sv_cage_nT_per_year, threshold_nT: float = DRIFT_THRESHOLD_NT) -> _dt.date | None:
+    """The date by which the null drifts by threshold_nT from ``date``; None when it never does."""
+    days = days_until_drift(sv_cage_nT_per_year, threshold_nT)
+    if not math.isfinite(days) or days > 365.25 * 100:
+        return None
+    return date + _dt.timedelta(days=int(days))
+
+
 def null_drift(now: SetpointTable, previous: dict, sv_cage_nT_per_year, threshold_nT: float = DRIFT_THRESHOLD_NT
                ) -> Drift:
     """Compare the null row of ``now`` with the null row of a previous table's JSON document."""
@@ -463,8 +486,7 @@ def null_drift(now: SetpointTable, previous: dict, sv_cage_nT_per_year, threshol
     k = np.asarray(now.coupling_nT_per_A)
     change = new_i - old_i
     sv = np.asarray(sv_cage_nT_per_year, dtype=float)
-    rate = float(np.linalg.norm(sv))
-    days = math.inf if rate == 0 else threshold_nT / rate * 365.25
+    days = days_until_drift(sv, threshold_nT)
     per_axis = tuple(math.inf if v == 0 else threshold_nT / abs(v) * 365.25 for v in sv)
     prev_date = None
     if isinstance(previous.get("date"), str):

@@ -10,6 +10,7 @@ key suggested. Nothing here prints.
 """
 from __future__ import annotations
 
+import dataclasses
 import datetime as _dt
 import difflib
 import math
@@ -51,6 +52,7 @@ class Orientation:
 
     heading_deg: float = 0.0
     heading_reference: str = "true"
+    stated: bool = True  # False when the site gives no heading (0 deg true assumed)
 
 
 @dataclass(frozen=True)
@@ -97,12 +99,18 @@ class CoilSettings:
 class Measured:
     """A survey inside the room: the field at the cage centre in the cage frame (nT), and
     optionally readings at several points (``points_m`` from the cage centre, m, and
-    ``fields_nT``, both cage frame) for the gradient over the test volume (``cage.gradient``)."""
+    ``fields_nT``, both cage frame) for the gradient over the test volume (``cage.gradient``).
+
+    date: the day of the survey (``measured.date``). Older files without it take the site's
+    ``date`` with ``date_assumed`` set (the user is warned); with neither, the file is refused.
+    """
 
     field_nT: tuple[float, float, float]
     note: str = ""
     points_m: tuple[tuple[float, float, float], ...] = ()
     fields_nT: tuple[tuple[float, float, float], ...] = ()
+    date: _dt.date | None = None
+    date_assumed: bool = False
 
 
 @dataclass(frozen=True)
@@ -142,7 +150,7 @@ _TABLE_KEYS = {
     ),
     "supply": ("axis", "max_voltage_V", "max_current_A", "resolution_A", "bipolar", "name", "drive",
                "temperature_coefficient_ppm_per_K", "drift_ppm_per_hour", "noise_ppm"),
-    "measured": ("field_nT", "note", "points_m", "fields_nT"),
+    "measured": ("field_nT", "note", "points_m", "fields_nT", "date"),
 }
 
 
@@ -330,6 +338,7 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
                              lo=HEADING_RANGE_DEG[0], hi=HEADING_RANGE_DEG[1]),
         heading_reference=r.text(ori, "heading_reference", "orientation.", default="true",
                                  choices=("true", "magnetic")),
+        stated=bool(ori),
     )
 
     room_t = r.table(tree, "room", required=False)
@@ -383,12 +392,18 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
             note=r.text(meas_t, "note", "measured.", default=""),
             points_m=_read_rows(r, meas_t, "points_m"),
             fields_nT=_read_rows(r, meas_t, "fields_nT"),
+            date=parse_date(meas_t["date"], f"{where}: measured.date") if "date" in meas_t else None,
         )
         if len(measured.points_m) != len(measured.fields_nT):
             raise r.fail("measured.fields_nT", f"has {len(measured.fields_nT)} readings for "
                                                f"{len(measured.points_m)} points_m")
         if math.sqrt(sum(v * v for v in measured.field_nT)) > 1e6:
             raise r.fail("measured.field_nT", "is above 1,000,000 nT (1 mT); is it in nT?")
+        if measured.date is None:
+            if not date_given:
+                raise r.fail("measured.date", "is missing: give the day of the survey (YYYY-MM-DD), so the "
+                                              "field can be carried to other dates")
+            measured = dataclasses.replace(measured, date=date, date_assumed=True)
 
     return Site(name=name, date=date, date_given=date_given, location=location, orientation=orientation,
                 room=room, requirement=requirement, coil=coil, supplies=supplies, measured=measured, source=where)

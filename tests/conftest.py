@@ -60,6 +60,14 @@ def assert_one_line_error(run: Run, *fragments: str, code: int = 2) -> None:
         assert fragment in lines[0], (fragment, lines[0])
 
 
+def csv_body(text: str) -> str:
+    """A CSV file's text without its leading ``#`` provenance comment lines (cage.provenance)."""
+    lines = text.splitlines(keepends=True)
+    while lines and lines[0].startswith("#"):
+        lines.pop(0)
+    return "".join(lines)
+
+
 def _check_scpi_text(text: str, where: str) -> None:
     """The SCPI self-check (command forms and supply limits read from the script's own
     header) on a script a test made; a failure fails the test run."""

@@ -28,7 +28,7 @@ import json
 
 import pytest
 
-from conftest import SITES, cli_code
+from conftest import SITES, cli_code, csv_body
 from cage.escape import csv_text_cell, for_figure, for_html, for_terminal, one_line
 
 HOSTILE = {
@@ -112,7 +112,9 @@ def test_hostile_site_name_in_scpi_csv_json_terminal(run_cli, hostile_setup, key
     # CSV
     run = run_cli("setpoints", design, site, "--targets", targets, "--format", "csv")
     assert run.code == 0, run
-    rows = list(csv.reader(io.StringIO(run.out)))
+    comments = [line for line in run.out.split("\n") if line.startswith("#")]
+    assert all(not any(ch in line for ch in LINE_BREAKS[1:]) for line in comments)  # provenance lines
+    rows = list(csv.reader(io.StringIO(csv_body(run.out))))
     width = len(rows[0])
     for row in rows:
         assert len(row) == width

@@ -20,7 +20,7 @@ from decimal import Decimal
 
 import pytest
 
-from conftest import SITES
+from conftest import SITES, csv_body
 
 SITE = SITES / "smallsat-lab.toml"
 BASE = SITE.read_text(encoding="utf-8")
@@ -220,7 +220,7 @@ def test_setpoint_currents_round_to_the_supply_resolution(run_cli, demo, tmp_pat
 def test_setpoint_csv_columns_end_in_their_units(run_cli, demo):
     """README: every numeric column name ends in its unit (read back with the csv module)."""
     run = run_cli("setpoints", demo, SITE, "--format", "csv")
-    rows = list(csv.DictReader(io.StringIO(run.out)))
+    rows = list(csv.DictReader(io.StringIO(csv_body(run.out))))
     assert rows
     unit_suffix = re.compile(r"_(A|V|W|nT|uT|C|ohm|s|m)$")
     numeric = set()

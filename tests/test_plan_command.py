@@ -3,10 +3,11 @@ report is one self-contained HTML file (checked with the standard library's html
 from __future__ import annotations
 
 import csv
+import io
 import json
 from html.parser import HTMLParser
 
-from conftest import SITES, assert_one_line_error
+from conftest import SITES, assert_one_line_error, csv_body
 
 OUTPUTS = ["field.json", "design.json", "setpoints.csv", "setpoints.json", "setpoints.scpi", "uniformity.png",
            "axis_lines.png", "cage_in_room.png", "setpoints.png", "report.html"]
@@ -40,15 +41,16 @@ def test_plan_writes_everything(tmp_path, run_cli):
     assert field["model"] == "IGRF-14"
     design = json.loads((out / "design.json").read_text())
     assert design["format"] == "cage-design" and set(design["axes"]) == {"x", "y", "z"}
-    rows = list(csv.DictReader((out / "setpoints.csv").open()))
+    rows = list(csv.DictReader(io.StringIO(csv_body((out / "setpoints.csv").read_text()))))
     # text cells starting with + or - carry a leading apostrophe (read as text, not a formula)
     assert [r["label"] for r in rows] == ["null", "'+x", "'-x", "'+y", "'-y", "'+z", "'-z"]
     parser = _Collector()
     parser.feed((out / "report.html").read_text())
-    assert len(parser.images) == 4 and all(src.startswith("data:image/png;base64,") for src in parser.images)
+    assert len(parser.images) == 4 + 3 and all(src.startswith("data:image/png;base64,") for src in parser.images)
     assert all(link.startswith(("data:", "#")) for link in parser.links)
     html = (out / "report.html").read_text().lower()
     assert "implant" in html and "electrical code" in html
+    assert "id=\"build\"" in html and "valid until" in html  # the build sheet and the date to renew setpoints
 
 
 def test_report_regenerates(tmp_path, run_cli):

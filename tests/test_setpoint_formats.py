@@ -23,7 +23,7 @@ import re
 
 import pytest
 
-from conftest import SITES, cli_code
+from conftest import SITES, cli_code, csv_body
 
 AXES = ("x", "y", "z")
 FIXED = ["null", "+x", "-x", "+y", "-y", "+z", "-z"]
@@ -62,7 +62,7 @@ def test_csv_parses_with_units_and_labels(run_cli, setup, name):
     site = SITES / f"{name}.toml"
     text = _render(run_cli, designs[name], site, targets, "csv")
     table = json.loads(_render(run_cli, designs[name], site, targets, "json"))
-    rows = list(csv.DictReader(io.StringIO(text)))
+    rows = list(csv.DictReader(io.StringIO(csv_body(text))))
     header = list(rows[0].keys())
     assert len(set(header)) == len(header)
     for col in header:
@@ -210,7 +210,7 @@ def test_out_file_formats_from_extension(run_cli, setup, tmp_path):
         if ext == "json":
             assert json.loads(text)["format"] == "cage-setpoints"
         elif ext == "csv":
-            assert list(csv.reader(io.StringIO(text)))[0][0] == "label"
+            assert list(csv.reader(io.StringIO(csv_body(text))))[0][0] == "label"
         else:
             assert _scpi_blocks(text)
     assert sorted(p.name for p in tmp_path.iterdir()) == ["table.csv", "table.json", "table.scpi"]

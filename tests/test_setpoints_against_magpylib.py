@@ -114,10 +114,17 @@ def test_ambient_at_lat_lon_matches_chaosmagpy(run_cli, designs, magnetic):
 
 
 def test_ambient_at_another_site_file_matches_chaosmagpy(run_cli, designs):
-    # The smallsat design used in the equatorial hall (heading 42 deg true, no survey).
-    table, _ = _table(run_cli, designs["smallsat-lab"], SITES / "equatorial-hall.toml")
+    # The smallsat design (built at 15 deg true) used with the equatorial hall's site file
+    # (heading 42 deg true, no survey): the built cage's azimuth holds, and the other heading is warned.
+    table, run = _table(run_cli, designs["smallsat-lab"], SITES / "equatorial-hall.toml")
+    ref = _ref_ambient(5.16, -52.65, 20.0, dt.date(2026, 6, 1), 15.0)
+    assert np.all(np.abs(np.array(table["ambient_cage_nT"]) - ref) <= AMBIENT_TOL_NT)
+    assert "differs from the built cage's 15.00 deg true" in run.err
+    # Turning the cage is an explicit option, and warned about.
+    table, run = _table(run_cli, designs["smallsat-lab"], SITES / "equatorial-hall.toml", "--heading-deg", "42")
     ref = _ref_ambient(5.16, -52.65, 20.0, dt.date(2026, 6, 1), 42.0)
     assert np.all(np.abs(np.array(table["ambient_cage_nT"]) - ref) <= AMBIENT_TOL_NT)
+    assert "given on the command line, not the built cage's 15.00 deg true" in run.err
 
 
 def test_surveyed_site_uses_the_survey(run_cli, designs):
@@ -167,7 +174,8 @@ def test_reuse_in_a_small_room_with_a_weak_supply_flags_not_clips(run_cli, desig
         ok_v = all(v is None or abs(v) <= 12.0 for v in r["voltage_V"].values())
         if r["within_limits"]:
             assert ok_i and ok_v, r
-    ref = _ref_ambient(64.1, -21.9, 0.0, dt.date(2027, 2, 1), 0.0)
+    # the site gives no heading: the built cage's 15 deg true from the design holds
+    ref = _ref_ambient(64.1, -21.9, 0.0, dt.date(2027, 2, 1), 15.0)
     assert np.all(np.abs(np.array(table["ambient_cage_nT"]) - ref) <= AMBIENT_TOL_NT)
     _check_rows_reach_targets(json.loads(designs["smallsat-lab"].read_text()), table)
 
