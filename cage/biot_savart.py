@@ -62,8 +62,11 @@ from fractions import Fraction
 from typing import Sequence
 
 import numpy as np
-from scipy.constants import mu_0 as MU0_T_M_PER_A
-from scipy.special import ellipe, ellipkm1
+
+# Vacuum permeability, T m / A: CODATA 2022 (NIST), the value of scipy.constants.mu_0 in
+# scipy 1.15 and later; written here so that importing the field engine does not import
+# scipy.constants (about 0.1 s of every command's start). tests/test_field_facts.py checks it.
+MU0_T_M_PER_A = 1.25663706127e-06
 
 __all__ = [
     "MU0_T_M_PER_A",
@@ -358,6 +361,8 @@ def _loop_local(zl, rho2, R, coef):
     b2 = (R + rho) ** 2 + z2
     beta = np.sqrt(b2)
     m = (4.0 * R) * rho / b2
+    from scipy.special import ellipe, ellipkm1  # only round coils need it: imported on first use
+
     E = ellipe(m)
     common = (coef * R * R) / (a2 * beta)
     g = np.empty_like(m)  # 8 J / b^2

@@ -21,7 +21,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from cage.errors import InputError
+from cage.errors import InfeasibleError, InputError
 from cage.sequence import AXES, _per_axis, _whole_number, currents_for_fields_A
 
 MIN_CURRENT_SETS = 4
@@ -470,3 +470,30 @@ def suggest_currents_A(max_current_A, n_levels: int = 2, fraction: float = 0.8,
         rows.append(np.where(bits, top, low))
     rows.append(np.zeros(3))
     return np.array(rows)
+
+
+def sensor_range_scale(currents_A, coupling_nT_per_A, ambient_nT, sensor_range_nT: float,
+                       margin: float = 0.9) -> float:
+    """The largest factor s in (0, 1] such that every current set times s keeps each sensor
+    axis within ``margin`` x ``sensor_range_nT``: |B0 + K (s I)| <= margin x range, per
+    component, for every row.
+
+    currents_A: (m, 3); coupling_nT_per_A: K (3, 3), cage frame, column = axis (the design's);
+    ambient_nT: B0 (3,), the field with no current (cage frame); sensor_range_nT: the
+    magnetometer's full scale per axis. Each component is affine in s, so the bound is
+    exact. Raises InfeasibleError when the ambient field alone is beyond the range.
+    """
+    i = np.asarray(currents_A, dtype=float)
+    k = np.asarray(coupling_nT_per_A, dtype=float)
+    b0 = np.asarray(ambient_nT, dtype=float)
+    limit = margin * float(sensor_range_nT)
+    if np.any(np.abs(b0) > limit):
+        worst = int(np.argmax(np.abs(b0)))
+        raise InfeasibleError(
+            f"the ambient field alone ({'xyz'[worst]} {b0[worst]:.0f} nT) is beyond {margin:.0%} of the sensor "
+            f"range {sensor_range_nT / 1000:g} uT: give a larger --sensor-range-uT")
+    slope = i @ k.T  # (m, 3) field change per unit s
+    with np.errstate(divide="ignore", invalid="ignore"):
+        up = np.where(slope > 0, (limit - b0) / slope, np.inf)
+        down = np.where(slope < 0, (limit + b0) / -slope, np.inf)
+    return float(min(1.0, up.min(initial=np.inf), down.min(initial=np.inf)))

@@ -52,13 +52,20 @@ def _root(
 
 # ----------------------------------------------------------------------------- helpers
 
+def _visible(text) -> str:
+    """Text for the terminal: each line's control characters made visible (cage.escape)."""
+    from cage.escape import for_terminal
+
+    return "\n".join(for_terminal(line) for line in str(text).split("\n"))
+
+
 def _say(text: str = "") -> None:
-    typer.echo(text)
+    typer.echo(_visible(text))
 
 
 def _warn(text: str) -> None:
     """One plain line on stderr: "caution: ..." for safety cautions, else "warning: ..."."""
-    line = " ".join(str(text or "").split())
+    line = " ".join(_visible(text or "").split())
     if not line:
         return
     for prefix in ("warning:", "caution:"):
@@ -579,22 +586,29 @@ def _number_or(value, default):
     return v if math.isfinite(v) else default
 
 
-def _table(design, site, ctx: _Context, targets):
+def _table(design, site, ctx: _Context, targets, times=(None, None)):
+    """The current table; times: (start time of each row (s), hold time (s)) of a sequence."""
     from cage.setpoints import setpoint_table
 
     return setpoint_table(design, ctx.ambient_nT, ctx.supplies, targets, site=site.name, date=site.date,
                           source=ctx.source, coupling_nT_per_A=ctx.coupling, ambient_temperature_C=ctx.ambient_C,
-                          max_winding_temperature_C=ctx.max_C, warnings=ctx.warnings, provenance=ctx.provenance)
+                          max_winding_temperature_C=ctx.max_C, warnings=ctx.warnings, t_s=times[0],
+                          dwell_s=times[1], provenance=ctx.provenance)
 
 
 def _flag_rows(table, limit: int = 10):
     """Add one warning naming the rows outside the supplies' limits."""
-    bad = [r.label for r in table.rows if not r.within_limits]
+    import numpy as np
+
+    from cage.escape import for_terminal
+
+    bad = [table.labels[k] for k in np.flatnonzero(~table.within_limits)]
     if not bad:
         return table
     more = "" if len(bad) <= limit else f" and {len(bad) - limit} more"
     return dataclasses.replace(table, warnings=table.warnings + (
-        f"{len(bad)} rows outside the supplies' limits (flagged, not clipped): {', '.join(bad[:limit])}{more}",))
+        f"{len(bad)} rows outside the supplies' limits (flagged, not clipped): "
+        f"{', '.join(for_terminal(b) for b in bad[:limit])}{more}",))
 
 
 def build_setpoints(design, site, *, targets_file=None, calibration_file=None, heading_explicit=False):
@@ -618,24 +632,41 @@ def build_setpoints(design, site, *, targets_file=None, calibration_file=None, h
 
 
 def setpoints_text(table) -> str:
-    """A readable table of the setpoints (rounded; the files keep full precision)."""
-    lines = [f"Current table for {table.site} ({table.source} field, {table.date})",
+    """A readable table of the setpoints (rounded; the files keep full precision).
+
+    The currents are the setpoints as each supply sees them (non-negative on a unipolar
+    channel, whose polarity is in the limits column); user text is escaped for the terminal.
+    """
+    import numpy as np
+
+    from cage.escape import for_terminal
+
+    lines = [f"Current table for {for_terminal(table.site)} ({table.source} field, {table.date})",
              "ambient (cage frame): " + ", ".join(f"{a} {v:,.1f} nT" for a, v in zip("xyz", table.ambient_cage_nT)),
              "",
              f"{'row':<10}{'target x, y, z (nT)':>32}{'I x (A)':>10}{'I y (A)':>10}{'I z (A)':>10}"
              f"{'V max (V)':>10}{'power (W)':>10}{'rounding (nT)':>14}  limits"]
-    for r in table.rows:
-        target = ", ".join(f"{v:.1f}" for v in r.target_cage_nT)
-        cur = "".join(f"{a.setpoint_A:>10.{_decimals_for(s)}f}" for a, s in zip(r.axes, table.supplies))
-        volts = [abs(a.voltage_V) for a in r.axes if a.voltage_V is not None]
-        vmax = f"{max(volts):>10.2f}" if volts else f"{'-':>10}"
-        power = f"{r.total_power_W:>10.1f}" if r.total_power_W is not None else f"{'-':>10}"
-        flag = "ok" if r.within_limits else "OUTSIDE: " + "; ".join(
-            f"{ax}: {p}" for ax, a in zip("xyz", r.axes) for p in a.problems)
-        switch = [ax for ax, a in zip("xyz", r.axes) if a.polarity_switch]
-        if switch:
-            flag += f" (reverse polarity on {', '.join(switch)})"
-        lines.append(f"{r.label:<10}{target:>32}{cur}{vmax}{power}{r.rounding_error_nT:>14.1f}  {flag}")
+    sp = table.supply_setpoint_A
+    with np.errstate(invalid="ignore"):
+        vmax = np.nanmax(np.where(np.isnan(table.voltage_V), -np.inf, np.abs(table.voltage_V)), axis=1)
+    vmax = np.where(table.reachable.all(axis=1), vmax, np.nan)  # no maximum over an unreachable axis
+    reverse = table.polarity_reverse
+    unipolar = table.unipolar
+    within = table.within_limits
+    power = table.total_power_W
+    fmts = [f"%10.{_decimals_for(s)}f" for s in table.supplies]
+    for r in range(len(table)):
+        t = table.target_cage_nT[r]
+        target = f"{t[0]:.1f}, {t[1]:.1f}, {t[2]:.1f}"
+        cur = "".join(f % v for f, v in zip(fmts, sp[r]))
+        v = f"{vmax[r]:>10.2f}" if np.isfinite(vmax[r]) else f"{'-':>10}"
+        pw = f"{power[r]:>10.1f}" if np.isfinite(power[r]) else f"{'-':>10}"
+        flag = "ok" if within[r] else "OUTSIDE: " + for_terminal("; ".join(table.row_problems(r)))
+        if unipolar.any():
+            flag += " (polarity " + ", ".join(
+                f"{ax} {'REVERSE' if reverse[r, j] else 'forward'}" for j, ax in enumerate("xyz") if unipolar[j]) + ")"
+        lines.append(f"{for_terminal(table.labels[r]):<10}{target:>32}{cur}{v}{pw}{table.field_error_nT[r]:>14.1f}"
+                     f"  {flag}")
     return "\n".join(lines)
 
 
@@ -712,7 +743,7 @@ def setpoints(
     text = setpoints_text(table) + "\n" if kind == "table" else render(table, kind)
     if out is not None:
         write_text(out, text)
-        _say(f"Wrote {out} ({kind}, {len(table.rows)} rows)")
+        _say(f"Wrote {out} ({kind}, {len(table)} rows)")
     else:
         typer.echo(text, nl=False)
     if old is not None:
@@ -937,6 +968,8 @@ def calibrate(
     as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of a table."),
     out: Optional[Path] = typer.Option(None, "--out", help="Calibration file to write (JSON), or with --suggest "
                                                           "the current set (CSV)."),
+    sensor_range_uT: float = typer.Option(100.0, "--sensor-range-uT", help="With --suggest: the magnetometer's "
+                                          "full scale per axis (uT); no suggested set takes it past 90 %."),
     site_file: Optional[Path] = typer.Option(None, "--site", help="Site file of the readings (default: the "
                                                                  "design's site)."),
     date: Optional[str] = typer.Option(None, "--date", help="Day of the readings YYYY-MM-DD (default today UTC)."),
@@ -959,8 +992,18 @@ def calibrate(
             supplies = [supply_for_axis(site.supplies, a) for a in "xyz"]
         except InputError as exc:
             raise InputError(f"{data_file}: {exc}") from None
-        currents = suggest_currents_A([s.max_current_A for s in supplies],
-                                      unipolar=[not s.bipolar for s in supplies])
+        if not (math.isfinite(sensor_range_uT) and 0.1 <= sensor_range_uT <= 1e7):
+            raise InputError(f"--sensor-range-uT must be between 0.1 and 1e7 uT, got {sensor_range_uT:g}")
+        tops, why = _suggest_tops(design_obj, site, supplies)
+        currents = suggest_currents_A(tops, fraction=1.0, unipolar=[not s.bipolar for s in supplies])
+        from cage.ambient import site_ambient
+        from cage.calibrate import sensor_range_scale
+
+        scale = sensor_range_scale(currents, design_coupling_nT_per_A(design_obj),
+                                   site_ambient(site).in_force_cage_nT, 1000.0 * sensor_range_uT)
+        currents = currents * scale
+        if scale < 1.0:
+            why.append(f"scaled to {scale:.0%} so no set takes the sensor past 90 % of {sensor_range_uT:g} uT")
         text = "current_x_A,current_y_A,current_z_A\n" + "".join(
             ",".join(f"{v:.4f}" for v in row) + "\n" for row in currents)
         if out is not None:
@@ -968,7 +1011,8 @@ def calibrate(
             _say(f"Wrote {out} ({len(currents)} current sets, condition {design_condition_number(currents):.2f})")
         else:
             typer.echo(text, nl=False)
-            _warn(f"{len(currents)} current sets within 80 % of the supply limits; condition of the fit "
+            _warn(f"{len(currents)} current sets within 80 % of what each supply can drive at operating "
+                  f"temperature ({'; '.join(why)}); condition of the fit "
                   f"{design_condition_number(currents):.2f}. Record the field at each, in the cage frame.")
         return
     from cage.calibrate import build_check, calibration_summary, fit_calibration
@@ -990,6 +1034,22 @@ def calibrate(
         _say(calibration_text(summary))
         if out is not None:
             _say(f"Wrote {out}; use it with: cage setpoints {design_file} SITE.toml --calibration {out}")
+
+
+def _suggest_tops(design_obj, site, supplies):
+    """Per axis: the largest calibration current, 80 % of what the supply can drive through
+    the winding at its operating temperature (voltage, not only the current limit)."""
+    from cage.setpoints import max_drivable_current_A
+
+    tops, why = [], []
+    for axis, a, s in zip("xyz", design_obj.axes, supplies):
+        drivable = max_drivable_current_A(a, s, site.coil.ambient_temperature_C, site.coil.max_winding_temperature_C)
+        if drivable <= 0.0:
+            raise InputError(f"axis {axis}: the supply cannot drive any current through this winding")
+        tops.append(0.8 * drivable)
+        why.append(f"{axis} up to {0.8 * drivable:.3f} A" + ("" if drivable >= s.max_current_A
+                                                             else " (voltage-limited)"))
+    return tops, why
 
 
 def _calibration_provenance(design_obj, site_file, date, data_file):
@@ -1054,6 +1114,10 @@ def _axis_circuits(design_obj, supplies, ambient_C, where: str = "design file"):
     return np.array(r), np.array(ind)
 
 
+# Most rows a sequence table holds (README "Input limits"): each row keeps some 40 numbers.
+MAX_SEQUENCE_STEPS = 1_000_000
+
+
 @app.command()
 def sequence(
     design_file: Path = typer.Argument(..., help="Design file (JSON).", show_default=False),
@@ -1068,6 +1132,8 @@ def sequence(
     out: Optional[Path] = typer.Option(None, "--out", help="File to write (atomically) instead of printing."),
     calibration: Optional[Path] = typer.Option(None, "--calibration", help="Calibration file from cage calibrate."),
     plot: Optional[Path] = typer.Option(None, "--plot", help="Write the currents against time or row (PNG)."),
+    dwell_s: float = typer.Option(1.0, "--dwell-s", help="Hold time of each --sphere direction (s); a series "
+                                                         "holds each row 1 / --rate-Hz."),
     orbit: Optional[Path] = typer.Option(None, "--orbit", help="Orbit series CSV from cage orbit (body frame "
                                          "= cage frame), or - to read it from a pipe."),
     latency_error_nT: float = typer.Option(10.0, "--latency-error-nT", help="With --orbit: the field error "
@@ -1098,9 +1164,12 @@ def sequence(
             raise InputError("--sphere needs --magnitude-uT, a positive field in microtesla (at most 100000)")
         if not 1 <= sphere <= 100_000:
             raise InputError(f"--sphere must be a number of directions from 1 to 100000, got {sphere}")
+        if not (math.isfinite(dwell_s) and 0.001 <= dwell_s <= 86_400):
+            raise InputError(f"--dwell-s must be between 0.001 and 86400 seconds, got {dwell_s:g}")
         dirs = fibonacci_sphere(sphere)
         width = len(str(len(dirs)))
-        targets = [(f"dir-{i + 1:0{width}d}", 1000.0 * magnitude_uT * d) for i, d in enumerate(dirs)]
+        targets = ([f"dir-{i + 1:0{width}d}" for i in range(len(dirs))], 1000.0 * magnitude_uT * dirs)
+        times = (np.arange(len(dirs)) * dwell_s, dwell_s)
     else:
         from cage.measurements import read_field_series_csv
         from cage.sequence import resample_series
@@ -1118,26 +1187,31 @@ def sequence(
             summary = rate_lines(data.t_s, data.field_nT, rate_Hz, latency_error_nT)
         else:
             data = read_field_series_csv(series, frame=series_frame)
+        steps = (float(data.t_s[-1]) - float(data.t_s[0])) * rate_Hz + 1
+        if steps > MAX_SEQUENCE_STEPS:
+            raise InputError(f"{orbit or series}: {data.t_s[-1] - data.t_s[0]:g} s at {rate_Hz:g} Hz gives "
+                             f"{steps:,.0f} steps, more than {MAX_SEQUENCE_STEPS:,}; lower --rate-Hz or split the series")
         t, field_nT = resample_series(data.t_s, data.field_nT, rate_Hz)
         if data.frame == "ned":
             field_nT = ned_to_cage(field_nT, ctx.amb.heading_true_deg)
-        targets = [(f"t={tk:.3f}s", f) for tk, f in zip(t, field_nT)]
+        targets = ([f"t={tk:.3f}s" for tk in t.tolist()], np.asarray(field_nT, dtype=float))
         dt = 1.0 / rate_Hz
-    table = _table(design_obj, site, ctx, targets)
+        times = (t - t[0], dt)
+    table = _table(design_obj, site, ctx, targets, times)
     warnings = list(table.warnings)
     if dt is not None:
         from cage.sequence import check_slew
         from cage.setpoints import flag_slew
 
         r_ohm, l_H = _axis_circuits(design_obj, table.supplies, site.coil.ambient_temperature_C, str(design_file))
-        currents = np.array([[a.setpoint_A for a in row.axes] for row in table.rows])
+        currents = table.setpoint_A
         check = check_slew(currents, dt, r_ohm, l_H, [s.max_voltage_V for s in table.supplies],
                            [s.max_current_A for s in table.supplies])
         table = flag_slew(table, check)
         if check.failing_steps:
-            shown = ", ".join(table.rows[k].label for k in check.failing_steps[:10])
+            shown = ", ".join(table.labels[k] for k in check.failing_steps[:10])
             more = "" if len(check.failing_steps) <= 10 else f" and {len(check.failing_steps) - 10} more"
-            warnings.append(f"{len(check.failing_steps)} of {len(table.rows)} steps cannot be followed at "
+            warnings.append(f"{len(check.failing_steps)} of {len(table)} steps cannot be followed at "
                             f"{rate_Hz:g} Hz: {shown}{more}")
     if orbit is not None:
         warnings += [w for w in summary if w.startswith("warning")]
@@ -1152,9 +1226,9 @@ def sequence(
         from cage.atomicfile import write_bytes
         from cage.plots import png_bytes, sequence_figure
 
-        steps = np.arange(len(table.rows)) / rate_Hz if dt is not None else np.arange(len(table.rows), dtype=float)
-        failing = [k for k, r in enumerate(table.rows) if not r.within_limits]
-        fig = sequence_figure(steps, np.array([r.setpoint_A for r in table.rows]),
+        steps = np.arange(len(table)) / rate_Hz if dt is not None else np.arange(len(table), dtype=float)
+        failing = np.flatnonzero(~table.within_limits).tolist()
+        fig = sequence_figure(steps, table.setpoint_A,
                               [s.max_current_A for s in table.supplies], failing)
         if dt is None:
             for ax in fig.axes:
@@ -1163,7 +1237,7 @@ def sequence(
         write_bytes(plot, png_bytes(fig))
     if out is not None:
         write_text(out, text)
-        _say(f"Wrote {out} ({kind}, {len(table.rows)} rows)")
+        _say(f"Wrote {out} ({kind}, {len(table)} rows)")
     else:
         typer.echo(text, nl=False)
     if orbit is not None:
@@ -1172,7 +1246,7 @@ def sequence(
                 typer.echo(line, err=out is None and kind != "table")
     if plot is not None:
         # With a machine format on stdout, keep stdout clean: say it on stderr.
-        typer.echo(f"Wrote {plot}", err=out is None and kind != "table")
+        typer.echo(_visible(f"Wrote {plot}"), err=out is None and kind != "table")
 
 
 # ----------------------------------------------------------------------------- commands in their own modules
@@ -1200,7 +1274,7 @@ def main(argv: Optional[list[str]] = None) -> None:
             raise InputError(problem)
         app(args=argv, prog_name="cage")
     except CageError as exc:
-        typer.echo(f"cage: {exc}", err=True)
+        typer.echo(f"cage: {_visible(exc)}".replace("\n", " "), err=True)
         sys.exit(exc.exit_code)
     except KeyboardInterrupt:
         typer.echo("cage: interrupted", err=True)
@@ -1210,6 +1284,6 @@ def main(argv: Optional[list[str]] = None) -> None:
     except Exception as exc:  # an unexpected failure: one line, the traceback only on request
         if os.environ.get("CAGE_DEBUG"):
             raise
-        typer.echo(f"cage: unexpected failure ({type(exc).__name__}: {exc}); set CAGE_DEBUG=1 for details",
+        typer.echo(f"cage: unexpected failure ({type(exc).__name__}: {_visible(exc)}); set CAGE_DEBUG=1 for details",
                    err=True)
         sys.exit(EXIT_UNEXPECTED)

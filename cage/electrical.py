@@ -27,6 +27,7 @@ from cage.checks import positive_number as _positive
 from cage.errors import InputError
 from cage.inductance import gmd_layered_pack_m, pair_inductance, round_wire_correction_H
 from cage.thermal import (
+    AMBIENT_RANGE_C,
     CURRENT_DENSITY_LIMIT_A_PER_MM2,
     NATURAL_CONVECTION_W_PER_M2_K,
     steady_winding_temperature,
@@ -40,7 +41,6 @@ from cage.wires import (
 
 DEFAULT_LEAD_LENGTH_M = 6.0
 DEFAULT_AMBIENT_TEMPERATURE_C = 22.0
-AMBIENT_RANGE_C = (-50.0, 80.0)
 
 # Relative slack when counting how many wire diameters fit a width, so that a channel of
 # exactly k diameters holds k turns despite rounding.
@@ -191,7 +191,8 @@ def _operating_inputs(axis: str, current_A, lead_length_m, ambient_temperature_C
         ambient = math.nan
     if not AMBIENT_RANGE_C[0] <= ambient <= AMBIENT_RANGE_C[1]:
         raise InputError(
-            f"ambient_temperature_C must be between {AMBIENT_RANGE_C[0]:g} and {AMBIENT_RANGE_C[1]:g}, "
+            f"coil.ambient_temperature_C (room air) must be between {AMBIENT_RANGE_C[0]:g} and "
+            f"{AMBIENT_RANGE_C[1]:g}, "
             f"got {ambient_temperature_C!r}"
         )
     h = _positive(heat_transfer_W_per_m2_K, "heat_transfer_W_per_m2_K")
@@ -444,6 +445,28 @@ def coil_axis_electrics(
         current_density_high=density > CURRENT_DENSITY_LIMIT_A_PER_MM2,
         ambient_temperature_C=ambient,
     )
+
+
+def winding_heat_terms(geometry, wire: Wire | str, frame_width_m: float, frame_depth_m: float
+                       ) -> list[tuple[float, float]]:
+    """Per coil of an axis (a ``CoilPair`` or a ``cage.coilaxis.CoilAxis``): its resistance at
+    20 degC (ohm) and the surface it sheds its heat from (m^2), as ``axis_electrics`` and
+    ``coil_axis_electrics`` take them (all four faces of the pack times the turn length).
+    What the steady temperature needs besides the current, for evaluating many currents at once.
+    """
+    from cage.coilaxis import perimeter_m
+
+    w = _as_wire(wire)
+    if isinstance(geometry, CoilPair):
+        coils = [(geometry.turns, geometry.size_m)] * 2
+    else:
+        coils = [(c.turns, c.size_m) for c in geometry.coils]
+    out = []
+    for turns, size in coils:
+        pack = winding_pack(w, turns, frame_width_m, frame_depth_m)
+        per = perimeter_m(geometry.shape, size)
+        out.append((turns * per * w.resistance_per_m_20C_ohm, 2.0 * (pack.width_m + pack.depth_m) * per))
+    return out
 
 
 def electrics_of(geometry, wire: Wire | str, current_A: float, **kwargs):

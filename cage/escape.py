@@ -24,6 +24,7 @@ Backslashes already in the text are kept as they are (Windows paths stay readabl
 from __future__ import annotations
 
 import html as _html
+import re
 
 __all__ = ["one_line", "for_terminal", "csv_text_cell", "for_figure", "for_html"]
 
@@ -48,14 +49,10 @@ def _escape_char(ch: str) -> str:
     return ch
 
 
-def _needs_escape(code: int) -> bool:
-    return (
-        code < 0x20
-        or 0x7F <= code <= 0x9F
-        or code in (0x2028, 0x2029)
-        or code in _BIDI
-        or 0xD800 <= code <= 0xDFFF
-    )
+# Every character _escape_char changes, as one pattern (the common case, nothing to escape,
+# is then one regex search).
+_UNSAFE = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029\u061c\u200e\u200f\u202a-\u202e\u2066-\u2069"
+                     "\ud800-\udfff]")
 
 
 def one_line(text) -> str:
@@ -65,9 +62,9 @@ def one_line(text) -> str:
     kept. ``one_line("a\\nVOLT 500")`` is ``"a\\\\nVOLT 500"`` (no line break).
     """
     s = "" if text is None else str(text)
-    if not any(_needs_escape(ord(c)) for c in s):
+    if _UNSAFE.search(s) is None:
         return s
-    return "".join(_escape_char(c) for c in s)
+    return _UNSAFE.sub(lambda m: _escape_char(m.group()), s)
 
 
 def for_terminal(text) -> str:

@@ -42,6 +42,9 @@ FRAMES = ("cage", "ned")
 MAX_CURRENT_A = 10_000.0
 MAX_FIELD_NT = 1e9
 MAX_TIME_S = 1e12
+# Row caps (README "Input limits"): reading stops at the first row beyond them.
+MAX_READINGS_ROWS = 100_000
+MAX_SERIES_ROWS = 1_000_000
 
 
 @dataclass(frozen=True, eq=False)
@@ -78,14 +81,19 @@ class FieldSeries:
     source_file: str
 
 
-def _read_table(path, required: tuple[str, ...], optional: tuple[str, ...] = ()):
-    """Return (header index map, [(line_number, cells)]) of a CSV file."""
+def _read_table(path, required: tuple[str, ...], optional: tuple[str, ...] = (), *, what: str = "CSV file",
+                max_rows: int = MAX_READINGS_ROWS):
+    """Return (header index map, [(line_number, cells)]) of a CSV file.
+
+    Stops with InputError as soon as the file has more than ``max_rows`` data rows, before
+    the rest is parsed.
+    """
     from cage.textfile import read_text
 
     p = Path(path)
-    text = read_text(p, "CSV file")
+    text = read_text(p, what)
 
-    lines = text.splitlines()
+    lines = text.split("\n")  # only LF ends a line (read_text made CR and CRLF into LF)
     rows = []
     header = None
     header_line = 0
@@ -98,6 +106,9 @@ def _read_table(path, required: tuple[str, ...], optional: tuple[str, ...] = ())
                 header, header_line = cells, number
             else:
                 rows.append((number, cells))
+                if len(rows) > max_rows:
+                    raise InputError(f"{p}: more than {max_rows:,} data rows (line {number}); the {what} "
+                                     f"takes at most {max_rows:,}")
     except csv.Error as exc:
         raise InputError(f"{p}: line {number}: cannot parse CSV ({exc})") from None
     expected = ",".join(required)
@@ -163,7 +174,7 @@ def read_calibration_csv(path: str | os.PathLike) -> CalibrationReadings:
     """
     from cage.calibrate import check_current_set
 
-    p, index, rows = _read_table(path, CALIBRATION_COLUMNS)
+    p, index, rows = _read_table(path, CALIBRATION_COLUMNS, what="readings CSV", max_rows=MAX_READINGS_ROWS)
     values = _numbers(p, index, rows, CALIBRATION_COLUMNS)
     currents = values[:, :3] if rows else np.zeros((0, 3))
     fields = values[:, 3:] if rows else np.zeros((0, 3))
@@ -185,7 +196,8 @@ def read_field_series_csv(path: str | os.PathLike, frame: str | None = None) -> 
     """
     if frame is not None and frame not in FRAMES:
         raise InputError(f"{path}: frame must be one of {', '.join(FRAMES)}, got {frame!r}")
-    p, index, rows = _read_table(path, SERIES_COLUMNS, optional=("frame",))
+    p, index, rows = _read_table(path, SERIES_COLUMNS, optional=("frame",), what="series CSV",
+                                 max_rows=MAX_SERIES_ROWS)
     if len(rows) < 2:
         raise InputError(f"{p}: {len(rows)} data row{'s' if len(rows) != 1 else ''}; a time series needs at least 2")
     values = _numbers(p, index, rows, SERIES_COLUMNS)

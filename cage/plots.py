@@ -38,6 +38,7 @@ from matplotlib.ticker import FixedLocator, FuncFormatter, MaxNLocator, NullLoca
 
 from cage.coils import AXES, CoilCage, check_cage
 from cage.errors import InputError
+from cage.escape import for_figure
 
 __all__ = [
     "FIG_WIDTH_IN",
@@ -745,7 +746,7 @@ def _mark_beyond(ax, x, w, values, low: float, high: float, unit: str) -> None:
     """
     for j in range(values.shape[1]):
         for i, v in enumerate(values[:, j]):
-            if low <= v <= high:
+            if low <= v <= high or v != v:  # NaN: an unreachable axis has no bar
                 continue
             edge = high if v > high else low
             xi = x[i] + (j - 1) * w
@@ -759,9 +760,13 @@ def _mark_beyond(ax, x, w, values, low: float, high: float, unit: str) -> None:
 
 def _axis_limit(doc: dict, axis: str) -> float:
     try:
-        return float(doc["supply_limits"][axis]["max_current_A"])
+        value = float(doc["supply_limits"][axis]["max_current_A"])
     except (KeyError, TypeError, ValueError):
         raise InputError(f"setpoints: supply_limits.{axis}.max_current_A is missing or not a number") from None
+    if not (math.isfinite(value) and 0 < value <= _PLOT_LIMITS["max_current_A"]):
+        raise InputError(f"setpoints: supply_limits.{axis}.max_current_A must be a positive number up to "
+                         f"{_PLOT_LIMITS['max_current_A']:g} A, got {value:g}")
+    return value
 
 
 def _bipolar(doc: dict, axis: str) -> bool:
@@ -779,7 +784,15 @@ def _row_value(row: dict, key: str, axis: str, where: str) -> float:
     v = _num_or_nan(value)
     if math.isnan(v):
         raise InputError(f"setpoints: {where}.{key}.{axis} must be a number, got {value!r}")
+    if abs(v) > _PLOT_LIMITS[key]:
+        raise InputError(f"setpoints: {where}.{key}.{axis} is {v:g}, beyond the {_PLOT_LIMITS[key]:g} a current "
+                         "table can hold")
     return v
+
+
+# Largest magnitudes a current table can hold (beyond them the document is damaged; figures
+# would overflow): 1 MA, 1 TW.
+_PLOT_LIMITS = {"current_A": 1e6, "max_current_A": 1e6, "power_W": 1e12, "total_power_W": 1e12}
 
 
 def setpoints_figure(doc: dict) -> Figure:
@@ -799,13 +812,16 @@ def setpoints_figure(doc: dict) -> Figure:
         where = f"rows[{i}]"
         if not isinstance(row, dict):
             raise InputError(f"setpoints: {where} must be an object")
-        labels.append(str(row.get("label", f"row {i + 1}")))
+        labels.append(for_figure(row.get("label", f"row {i + 1}")))
         for j, a in enumerate(AXES):
             current[i, j] = _row_value(row, "current_A", a, where)
-            power[i, j] = _row_value(row, "power_W", a, where)
+            # null power: an unreachable axis (no steady state) or no electrical data; no bar
+            value = (row.get("power_W") or {}).get(a) if isinstance(row.get("power_W"), dict) else None
+            power[i, j] = math.nan if value is None else _row_value(row, "power_W", a, where)
         ok.append(bool(row.get("within_limits", True)))
     ok = np.array(ok)
     total = np.array([_num_or_nan(r.get("total_power_W")) for r in rows])
+    total = np.where(np.abs(total) <= _PLOT_LIMITS["total_power_W"], total, np.nan)
     total = np.where(np.isfinite(total), total, power.sum(axis=1))
 
     nrow = len(rows)
@@ -851,14 +867,16 @@ def setpoints_figure(doc: dict) -> Figure:
         ax_i.grid(True, axis="y", linewidth=0.4, alpha=0.5)
         ax_p.set_ylabel("power (W)")
         ax_p.grid(True, axis="y", linewidth=0.4, alpha=0.5)
-        pmax = float(max((power[ok] if ok.any() else power).max(), 1e-9))
+        pmax = float(max(np.nanmax(power[ok] if ok.any() else power, initial=0.0), 1e-9))
         ax_p.set_ylim(0.0, 1.22 * pmax)
         _mark_beyond(ax_p, x, w, power, 0.0, 1.22 * pmax, "W")
         if nrow <= 16:
             for i in range(nrow):
-                if power[i].max() > 1.22 * pmax:
+                top_w = np.nanmax(power[i], initial=0.0)
+                if top_w > 1.22 * pmax:
                     continue  # beyond the panel: _mark_beyond writes its value
-                ax_p.text(x[i], power[i].max() + 0.03 * pmax, f"{total[i]:.1f} W", ha="center",
+                ax_p.text(x[i], top_w + 0.03 * pmax,
+                          f"{total[i]:.1f} W" if np.isfinite(total[i]) else "unreachable", ha="center",
                           va="bottom", fontsize=_FS["small"], rotation=90 if nrow > 8 else 0)
         ax_p.legend(handles=[Patch(color=AXIS_COLOURS[a], label=f"{a} power") for a in AXES]
                     + [Patch(facecolor="white", edgecolor="0.3", hatch="////",
@@ -873,9 +891,9 @@ def setpoints_figure(doc: dict) -> Figure:
                 tick.set_fontweight("bold")
         ax_p.set_xlim(-0.6, nrow - 0.4)
         ax_p.set_xlabel("setpoint row")
-        site = str(doc.get("site", ""))
-        when = str(doc.get("date", ""))
-        source = str(doc.get("source", ""))
+        site = for_figure(doc.get("site", ""))
+        when = for_figure(doc.get("date", ""))
+        source = for_figure(doc.get("source", ""))
         parts = [p for p in (site, when) if p]
         title = "Setpoints" + (": " + ", ".join(parts) if parts else "") + (f" ({source})" if source else "")
         ax_i.set_title(title, fontsize=_FS["title"])

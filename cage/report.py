@@ -6,7 +6,7 @@ and returns ONE self-contained HTML document: figures embedded as ``data:image/p
 inline CSS only, no scripts, no outside links, fonts or style sheets, so the file can be
 mailed, archived and printed as it is (A4, page breaks between sections).
 
-Every piece of text that comes from a document is escaped (``html.escape``); every number
+Every piece of text that comes from a document is escaped (``cage.escape.for_html``: control characters made visible, then ``html.escape``); every number
 is written with its unit and rounded for people (nT to 0.1, A to 3 decimals or the supply's
 resolution, V to 0.01, W to 0.1).
 
@@ -15,12 +15,12 @@ Nothing here imports matplotlib, reads or writes files, or prints.
 from __future__ import annotations
 
 import base64
-import html
 import math
 import numbers
 from collections.abc import Mapping, Sequence
 
 from cage.errors import InputError
+from cage.escape import for_html
 
 __all__ = ["build_report", "CAUTIONS", "ASSUMPTIONS", "PNG_SIGNATURE"]
 
@@ -124,7 +124,7 @@ figcaption { font-size: 9.5pt; color: #333; margin-top: 1mm; }
 
 
 def _esc(value) -> str:
-    return html.escape(str(value), quote=True)
+    return for_html(value)
 
 
 def _number(value) -> float | None:
@@ -194,7 +194,7 @@ def _norm(values) -> float | None:
     nums = [_number(v) for v in items]
     if any(n is None for n in nums):
         return None
-    return math.sqrt(sum(n * n for n in nums))
+    return math.hypot(*nums)  # no overflow for huge components
 
 
 def _table(headers: Sequence[str], rows: Sequence[Sequence[str]], numeric_from: int = 1,
@@ -455,7 +455,7 @@ def _setpoints_section(sp: Mapping) -> str:
             cells.append(f"<td>{_esc(a)}</td>")
             cells.append(f'<td class="num">{_fmt(_get(target, a, j), 1, "nT")}</td>')
             cells.append(f'<td class="num{" bad" if cur_bad else ""}">{_fmt(cur, d, "A")}{" !" if cur_bad else ""}</td>')
-            cells.append(f'<td class="num">{_fmt(_get(r.get("setpoint_A"), a, j), d, "A")}</td>')
+            cells.append(f'<td class="num">{_supply_setpoint(r, lim, a, j, d)}</td>')
             cells.append(f'<td class="num{" bad" if volt_bad else ""}">{_fmt(volt, 2, "V")}{" !" if volt_bad else ""}</td>')
             cells.append(f'<td class="num">{_fmt(_get(r.get("power_W"), a, j), 1, "W")}</td>')
             if j == 0:
@@ -465,8 +465,18 @@ def _setpoints_section(sp: Mapping) -> str:
     html_rows.append("</tbody></table>")
     parts.append("\n".join(html_rows))
     parts.append("<p class=\"note\">Target fields in the cage frame; currents signed (positive gives a "
-                 "field along +axis); \"!\" marks a value beyond its supply limit.</p>")
+                 "field along +axis); the supply setpoint of a unipolar channel is |I| with the polarity its switch "
+                 "needs; \"!\" marks a value beyond its supply limit.</p>")
     return _section("setpoints", "Setpoints", "\n".join(parts))
+
+
+def _supply_setpoint(row: Mapping, lim: Mapping, axis: str, index: int, decimals: int) -> str:
+    """The setpoint as the supply sees it: on a unipolar channel |I| and the polarity switch."""
+    sp = _number(_get(row.get("setpoint_A"), axis, index))
+    if lim.get("bipolar") is not False or sp is None:
+        return _fmt(_get(row.get("setpoint_A"), axis, index), decimals, "A")
+    reverse = sp < 0
+    return _fmt(abs(sp), decimals, "A") + _esc(", polarity " + ("REVERSE" if reverse else "forward"))
 
 
 def _get(values, axis: str, index: int):

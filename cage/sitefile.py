@@ -21,6 +21,7 @@ from typing import Any
 
 from cage.errors import InputError
 from cage.supplies import Supply
+from cage.thermal import AMBIENT_RANGE_C
 
 AXES = ("x", "y", "z")
 
@@ -31,7 +32,9 @@ LONGITUDE_RANGE_DEG = (-180.0, 360.0)
 ALTITUDE_RANGE_M = (-1_000.0, 100_000.0)
 HEADING_RANGE_DEG = (-360.0, 360.0)
 ROOM_SIDE_RANGE_M = (0.1, 200.0)
-TEMPERATURE_RANGE_C = (-50.0, 250.0)
+MIN_TEST_VOLUME_SIDE_M = 0.001  # smaller than any probe; the planner's ratios need a real box
+MIN_RESOLUTION_A = 1e-9  # no supply sets current finer than a nanoampere
+TEMPERATURE_RANGE_C = (-50.0, 250.0)  # winding temperatures; room air: cage.thermal.AMBIENT_RANGE_C
 
 
 @dataclass(frozen=True)
@@ -307,6 +310,8 @@ def site_from_text(text: str, where: str = "site") -> Site:
         tree = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise InputError(f"{where}: TOML syntax error: {exc}") from None
+    except RecursionError:
+        raise InputError(f"{where}: TOML nested too deeply") from None
     return site_from_dict(tree, where)
 
 
@@ -364,6 +369,10 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
         max_field_step_nT=(r.number(req_t, "max_field_step_nT", "requirement.", positive=True, lo=1e-6, hi=1e9)
                            if "max_field_step_nT" in req_t else None),
     )
+    for i, v in enumerate(requirement.test_volume_m):
+        if v < MIN_TEST_VOLUME_SIDE_M:
+            raise r.fail(f"requirement.test_volume_m[{i}]",
+                         f"must be at least {MIN_TEST_VOLUME_SIDE_M:g} m (a probe's size), got {v:g}")
     if room is not None:
         inner = (room.length_m - 2 * room.clearance_m, room.width_m - 2 * room.clearance_m,
                  room.height_m - 2 * room.clearance_m)
@@ -429,7 +438,7 @@ def _read_coil(r: _Reader, t: dict) -> CoilSettings:
         max_winding_temperature_C=r.number(t, "max_winding_temperature_C", p, default=d.max_winding_temperature_C,
                                            lo=TEMPERATURE_RANGE_C[0], hi=TEMPERATURE_RANGE_C[1]),
         ambient_temperature_C=r.number(t, "ambient_temperature_C", p, default=d.ambient_temperature_C,
-                                       lo=TEMPERATURE_RANGE_C[0], hi=TEMPERATURE_RANGE_C[1]),
+                                       lo=AMBIENT_RANGE_C[0], hi=AMBIENT_RANGE_C[1]),
         wires=wires,
         lead_length_m=r.number(t, "lead_length_m", p, default=d.lead_length_m, nonnegative=True, lo=0.0, hi=10_000.0),
         axis_order=axis_order,
@@ -464,7 +473,7 @@ def _read_supplies(r: _Reader, value: Any) -> tuple[Supply, ...]:
             axis=axis,
             max_voltage_V=r.number(t, "max_voltage_V", p, positive=True, lo=0.0, hi=10_000.0),
             max_current_A=r.number(t, "max_current_A", p, positive=True, lo=0.0, hi=10_000.0),
-            resolution_A=r.number(t, "resolution_A", p, default=0.001, positive=True, lo=0.0, hi=100.0),
+            resolution_A=r.number(t, "resolution_A", p, default=0.001, positive=True, lo=MIN_RESOLUTION_A, hi=100.0),
             bipolar=bipolar,
             name=r.text(t, "name", p, default=""),
             drive=r.text(t, "drive", p, default="current", choices=("current", "voltage")),

@@ -71,6 +71,9 @@ def validate_supply(supply: Supply, where: str) -> Supply:
             raise InputError(f"{where}: {key} must be a number, got {value!r}") from None
         if isinstance(value, bool) or not math.isfinite(number) or number <= 0.0:
             raise InputError(f"{where}: {key} must be a positive number, got {value!r}")
+    if supply.resolution_A < 1e-9:
+        raise InputError(f"{where}: resolution_A must be at least 1e-09 A (no supply sets current finer), "
+                         f"got {supply.resolution_A:g}")
     if supply.resolution_A > supply.max_current_A:
         raise InputError(
             f"{where}: resolution_A {supply.resolution_A:g} is larger than max_current_A {supply.max_current_A:g}"

@@ -29,9 +29,11 @@ class Target:
 def read_targets_csv(path) -> list[Target]:
     where = str(path)
     text = read_text(path, "targets file")
-    lines = [(n, line) for n, line in enumerate(text.splitlines(), 1) if line.strip() and not line.lstrip().startswith("#")]
+    lines = [(n, line) for n, line in enumerate(text.split("\n"), 1) if line.strip() and not line.lstrip().startswith("#")]
     if not lines:
         raise InputError(f"{where}: empty; expected a header {','.join(REQUIRED)}[,frame]")
+    if len(lines) - 1 > MAX_ROWS:  # before any CSV parsing
+        raise InputError(f"{where}: {len(lines) - 1} rows, at most {MAX_ROWS}")
     try:
         rows = list(csv.reader([line for _, line in lines]))
     except csv.Error as exc:

@@ -22,6 +22,11 @@ from cage.wires import COPPER_TEMPERATURE_COEFFICIENT_PER_K, REFERENCE_TEMPERATU
 # Common practice: 6 to 10 W/(m^2 K); 8 is used.
 NATURAL_CONVECTION_W_PER_M2_K = 8.0
 
+# Room air the model is used for, degC: the one range for the site file's
+# coil.ambient_temperature_C and the electrical model (a winding in hotter air is beyond the
+# natural-convection coefficient above).
+AMBIENT_RANGE_C = (-50.0, 80.0)
+
 # Current density above which an air-cooled winding on continuous duty is usually thought
 # to run hot: 3 A/mm^2 (common practice).
 CURRENT_DENSITY_LIMIT_A_PER_MM2 = 3.0

@@ -32,6 +32,8 @@ def run_cli(capsys):
         except SystemExit as exc:
             code = exc.code if isinstance(exc.code, int) else (0 if exc.code is None else 1)
         captured = capsys.readouterr()
+        if captured.out.startswith("# cage current table"):
+            _check_scpi_text(captured.out, "stdout")
         return Run(code, captured.out, captured.err)
 
     return _run
@@ -64,3 +66,35 @@ def csv_body(text: str) -> str:
     while lines and lines[0].startswith("#"):
         lines.pop(0)
     return "".join(lines)
+
+
+def _check_scpi_text(text: str, where: str) -> None:
+    """The SCPI self-check (command forms and supply limits read from the script's own
+    header) on a script a test made; a failure fails the test run."""
+    from cage.setpointfile import check_scpi
+
+    try:
+        check_scpi(text)
+    except Exception as exc:  # noqa: BLE001 - any failure is a defect of the writer
+        raise AssertionError(f"{where}: SCPI self-check failed: {exc}") from None
+
+
+def pytest_sessionfinish(session, exitstatus):
+    """Every SCPI script the test suite wrote under pytest's temporary folders passes the
+    self-check (cage.setpointfile.check_scpi)."""
+    factory = getattr(session.config, "_tmp_path_factory", None)
+    if factory is None:
+        return
+    try:
+        base = factory.getbasetemp()
+    except Exception:  # noqa: BLE001 - no temporary folder was made
+        return
+    failures = []
+    for path in sorted(Path(base).rglob("*.scpi")):
+        try:
+            _check_scpi_text(path.read_text(encoding="utf-8"), str(path))
+        except AssertionError as exc:
+            failures.append(str(exc))
+    if failures:
+        print("\n" + "\n".join(failures))
+        session.exitstatus = pytest.ExitCode.TESTS_FAILED

@@ -45,3 +45,14 @@ def test_poles_are_finite():
     # nearby), about -70 deg at the south geographic pole (its dip pole is ~2,800 km away).
     assert earth_field(90.0, 0.0, 0.0, DATE).inclination_deg > 80.0
     assert -80.0 < earth_field(-90.0, 0.0, 0.0, DATE).inclination_deg < -60.0
+
+
+def test_vacuum_permeability_is_the_codata_value():
+    # CODATA 2022 (NIST): mu_0 = 1.25663706127(20) x 10^-6 N A^-2; scipy.constants carries it.
+    import pytest
+    from scipy.constants import mu_0
+
+    from cage.biot_savart import MU0_T_M_PER_A
+
+    assert MU0_T_M_PER_A == pytest.approx(1.25663706127e-06, rel=1e-12)
+    assert MU0_T_M_PER_A == pytest.approx(mu_0, rel=2e-10)  # 2018 and 2022 values differ by 7e-11

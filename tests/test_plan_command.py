@@ -42,7 +42,8 @@ def test_plan_writes_everything(tmp_path, run_cli):
     design = json.loads((out / "design.json").read_text())
     assert design["format"] == "cage-design" and set(design["axes"]) == {"x", "y", "z"}
     rows = list(csv.DictReader(io.StringIO(csv_body((out / "setpoints.csv").read_text()))))
-    assert [r["label"] for r in rows] == ["null", "+x", "-x", "+y", "-y", "+z", "-z"]
+    # text cells starting with + or - carry a leading apostrophe (read as text, not a formula)
+    assert [r["label"] for r in rows] == ["null", "'+x", "'-x", "'+y", "'-y", "'+z", "'-z"]
     parser = _Collector()
     parser.feed((out / "report.html").read_text())
     assert len(parser.images) == 4 + 3 and all(src.startswith("data:image/png;base64,") for src in parser.images)

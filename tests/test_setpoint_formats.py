@@ -29,9 +29,9 @@ AXES = ("x", "y", "z")
 FIXED = ["null", "+x", "-x", "+y", "-y", "+z", "-z"]
 TARGETS = ("label,x_uT,y_uT,z_uT,frame\n# a comment line\n"
            "bench-a,10,-20,30,cage\nbench-b,0,55.5,0,ned\nstrong,0,0,-300,cage\n")
-UNITS = ("_nT", "_A", "_V", "_W", "_C")
+UNITS = ("_nT", "_A", "_V", "_W", "_C", "_s")
 NUMBER = r"[+-]?\d+(?:\.\d+)?"
-SCPI_COMMAND = re.compile(rf"^(INST:NSEL [123]|VOLT {NUMBER}|CURR {NUMBER}|OUTP ON)$")
+SCPI_COMMAND = re.compile(rf"^(INST:NSEL [123]|VOLT {NUMBER}|CURR {NUMBER}|OUTP ON|OUTP OFF|\*WAI)$")
 
 
 _cli = cli_code
@@ -71,10 +71,15 @@ def test_csv_parses_with_units_and_labels(run_cli, setup, name):
         if numeric:
             assert col.endswith(UNITS), f"numeric column {col!r} has no unit in its name"
         else:
-            assert col in ("label", "within_limits", "problems") or col.startswith("polarity_switch_"), col
-    assert [r["label"] for r in rows] == FIXED + ["bench-a", "bench-b", "strong"]
+            # t_s and dwell_s are empty outside a sequence; polarity_* is a word
+            assert col in ("label", "within_limits", "problems", "t_s", "dwell_s") or col.startswith("polarity_"), col
+    # A text cell starting with + or - gets a leading apostrophe so a spreadsheet reads it as
+    # text, not a formula (CSV injection guard, common practice).
+    labels = [r["label"] for r in rows]
+    assert labels[1:7] == ["'+x", "'-x", "'+y", "'-y", "'+z", "'-z"]
+    assert [lab.removeprefix("'") for lab in labels] == FIXED + ["bench-a", "bench-b", "strong"]
     for r, j in zip(rows, table["rows"]):
-        assert r["label"] == j["label"]
+        assert r["label"].removeprefix("'") == j["label"]
         assert r["within_limits"] == ("yes" if j["within_limits"] else "no")
         for k, a in enumerate(AXES):
             assert float(r[f"target_{a}_nT"]) == pytest.approx(j["target_cage_nT"][k], abs=0.051)
@@ -135,12 +140,16 @@ def _scpi_blocks(text: str) -> dict:
             label, channel = m[1], None
             blocks[label] = {}
             continue
+        if line.startswith("# end"):
+            label = None
+            continue
         sent = not line.startswith("#")
         body = line if sent else line[1:].strip()
         if not SCPI_COMMAND.match(body):
             assert not sent, f"not a SCPI command of the grammar: {line!r}"
             continue  # a plain comment
-        assert label is not None, line
+        if label is None:
+            continue  # the preamble and the closing block: every channel off at zero
         word, _, value = body.partition(" ")
         if word == "INST:NSEL":
             channel = int(value)
@@ -185,7 +194,7 @@ def test_scpi_grammar_and_currents(run_cli, setup, name):
 
 def test_scpi_grammar_rejects_what_it_should():
     # The grammar is not a catch-all.
-    for bad in ("CURR", "CURR 1,5", "VOLT abc", "INST:NSEL 4", "OUTP OFFX", "SOUR:CURR 1.0", "curr 1.0"):
+    for bad in ("CURR", "CURR 1,5", "VOLT abc", "INST:NSEL 4", "OUTP OFFX", "*WAIT", "SOUR:CURR 1.0", "curr 1.0"):
         assert not SCPI_COMMAND.match(bad), bad
     for good in ("CURR -0.298", "VOLT 30.000", "INST:NSEL 2", "OUTP ON"):
         assert SCPI_COMMAND.match(good), good
