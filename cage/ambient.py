@@ -12,7 +12,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from cage.frames import ned_to_cage, true_heading_deg
-from cage.geomag import EarthField, earth_field
+from cage.geomag import EarthField, earth_field, model_cage_nT  # noqa: F401  (model_cage_nT: its old home)
 
 
 @dataclass(frozen=True)
@@ -111,10 +111,3 @@ def survey_model_cage_nT(site, heading_true_deg: float) -> tuple[float, float, f
     """The model field on the survey's day at the site, in the cage frame (nT)."""
     loc = site.location
     return model_cage_nT(loc.latitude_deg, loc.longitude_deg, loc.altitude_m, site.measured.date, heading_true_deg)
-
-
-def model_cage_nT(latitude_deg: float, longitude_deg: float, altitude_m: float, date: _dt.date,
-                  heading_true_deg: float) -> tuple[float, float, float]:
-    """The model field at a position and date in the cage frame of a true heading (nT)."""
-    earth = earth_field(latitude_deg, longitude_deg, altitude_m, date)
-    return tuple(float(v) for v in ned_to_cage(earth.ned_nT, heading_true_deg))

@@ -128,45 +128,6 @@ class QuaternionTable:
     source: str
 
 
-QUAT_FIRST = ("t_s", "qw", "qx", "qy", "qz")
-QUAT_LAST = ("t_s", "qx", "qy", "qz", "qw")
-
-
-def read_quaternion_csv(path) -> QuaternionTable:
-    """Read an attitude CSV. The header states the order: ``t_s,qw,qx,qy,qz`` (scalar first) or
-    ``t_s,qx,qy,qz,qw`` (scalar last); t_s is seconds from the orbit's start, strictly increasing.
-    Quaternions are normalised; a norm far from 1 (off by more than 1 %) is refused."""
-    from cage.measurements import _numbers, _read_table
-
-    from pathlib import Path
-
-    p = Path(path)
-    _, index, rows = _read_table(p, ("t_s", "qw", "qx", "qy", "qz"))
-    order = [name for name in sorted(index, key=index.get)]
-    if tuple(order) == QUAT_FIRST:
-        first = True
-    elif tuple(order) == QUAT_LAST:
-        first = False
-    else:
-        raise InputError(f"{p}: columns must be in the order {','.join(QUAT_FIRST)} (scalar first) or "
-                         f"{','.join(QUAT_LAST)} (scalar last)")
-    if len(rows) < 2:
-        raise InputError(f"{p}: an attitude table needs at least 2 rows, got {len(rows)}")
-    values = _numbers(p, index, rows, ("t_s", "qw", "qx", "qy", "qz"))
-    t = values[:, 0]
-    for k in range(1, len(rows)):
-        if not t[k] > t[k - 1]:
-            raise InputError(f"{p}: line {rows[k][0]}, column t_s: {t[k]:g} s is not after {t[k - 1]:g} s; "
-                             f"times must increase strictly")
-    q = values[:, 1:]
-    norm = np.linalg.norm(q, axis=1)
-    bad = np.flatnonzero(np.abs(norm - 1.0) > 0.01)
-    if bad.size:
-        raise InputError(f"{p}: line {rows[bad[0]][0]}: the quaternion's length is {norm[bad[0]]:.4g}, "
-                         f"not 1 (unit quaternions only)")
-    return QuaternionTable(t_s=t, q=q / norm[:, None], scalar_first_in_file=first, source=str(p))
-
-
 def body_field_nT(matrices, field_teme_nT) -> np.ndarray:
     """(n, 3) body-frame field: M_k @ B_k for each sample."""
     return np.einsum("nij,nj->ni", np.asarray(matrices), np.asarray(field_teme_nT, dtype=float))

@@ -1,30 +1,12 @@
 """``cage build DESIGN.json``: the build sheet on the terminal, as JSON, as a CSV bill of materials."""
 from __future__ import annotations
 
-import csv
-import dataclasses
-import io
 from pathlib import Path
 from typing import List, Optional
 
 import typer
 
-FORMAT = "cage-build"
-VERSION = 1
-
-BOM_COLUMNS = ("item", "axis", "coil", "description", "quantity", "unit", "length_m", "mass_kg", "note")
-
-
-def _mm(value_m: float) -> str:
-    return f"{value_m * 1e3:.1f} mm"
-
-
-def sheet_to_dict(sheet, design_name: str) -> dict:
-    """The JSON object of ``cage build --json``: every key with a number carries its unit."""
-    out = {"format": FORMAT, "version": VERSION, "design": design_name}
-    out.update(dataclasses.asdict(sheet))
-    out["axes"] = {b["axis"]: b for b in out["axes"]}
-    return out
+from cage.buildsheetfile import BOM_COLUMNS, FORMAT, VERSION, _mm, bom_csv, bom_rows, sheet_to_dict  # noqa: F401
 
 
 def sheet_text(sheet, design_name: str) -> str:
@@ -83,77 +65,6 @@ def sheet_text(sheet, design_name: str) -> str:
     return "\n".join(lines)
 
 
-def bom_rows(sheet) -> list[dict]:
-    """The bill of materials: one dict per row with the keys of ``BOM_COLUMNS``."""
-    rows = []
-
-    def add(item, axis, coil, description, quantity, unit, length_m=None, mass_kg=None, note=""):
-        rows.append({"item": item, "axis": axis, "coil": coil, "description": description, "quantity": quantity,
-                     "unit": unit, "length_m": "" if length_m is None else f"{length_m:.2f}",
-                     "mass_kg": "" if mass_kg is None else f"{mass_kg:.3f}", "note": note})
-
-    for b in sheet.axes:
-        for c in b.coils:
-            add("frame", b.axis, c.label,
-                f"{c.shape} frame, inner {c.size_kind} {c.frame_inner_size_m:.3f} m, outer {c.size_kind} "
-                f"{c.frame_outer_size_m:.3f} m, channel {_mm(c.channel_width_m)} x {_mm(c.channel_depth_m)}",
-                1, "piece", note=f"coil plane at {c.position_m:+.3f} m on {b.axis}; metal frames need an insulating break")
-            add("winding", b.axis, c.label, f"{c.turns} turns of {b.wire}, {c.layers} layers of {c.turns_per_layer}",
-                1, "coil", c.wire_length_m, c.copper_mass_kg,
-                note=f"includes link {c.link_length_m:.2f} m" if c.link_length_m else "")
-        best = next((s for s in b.spools if s.holds_one_coil), b.spools[-1])
-        add("magnet wire", b.axis, "", f"{b.wire} enamelled copper, class F or better", best.spools_needed,
-            f"spool of {best.spool_mass_kg:g} kg", b.order_wire_m, b.order_wire_m * b.copper_mass_kg / b.total_wire_m,
-            note=f"coils, links and leads {b.total_wire_m:.1f} m plus {sheet.spare_fraction * 100:g} % spare")
-        p = b.protection
-        add("fuse", b.axis, "", f"fuse or breaker {p.fuse_A:g} A DC", 1, "piece",
-            note=f"design current {p.design_current_A:.3f} A")
-        if p.diode_current_A is not None:
-            add("freewheel diode", b.axis, "", f"at least {p.diode_current_A:.2f} A, {p.diode_reverse_V:.0f} V reverse",
-                1, "piece", note=f"stored energy {p.stored_energy_J:.3g} J")
-        else:
-            add("transient suppressor", b.axis, "", f"bidirectional, stand-off above {p.tvs_standoff_V:.0f} V, "
-                f"at least {p.tvs_energy_J:.3g} J", 1, "piece", note="or the RC snubber of the build sheet")
-        if p.polarity_switch:
-            add("polarity switch", b.axis, "", "double-pole double-throw, rated for the fuse current", 1, "piece",
-                note="switch only at zero current")
-    return rows
-
-
-def bom_csv(sheet) -> str:
-    """The bill of materials as CSV text (every cell a plain value; text cells made safe for spreadsheets)."""
-    buf = io.StringIO()
-    w = csv.DictWriter(buf, fieldnames=BOM_COLUMNS, lineterminator="\n")
-    w.writeheader()
-    for row in bom_rows(sheet):
-        w.writerow({k: _cell(v) for k, v in row.items()})
-    return buf.getvalue()
-
-
-def _cell(value):
-    """A CSV cell: text made one line and never a spreadsheet formula (cage.escape); numbers as they are."""
-    from cage.escape import csv_text_cell
-
-    return csv_text_cell(value) if isinstance(value, str) else value
-
-
-def sheet_for_design(design_obj):
-    """The build sheet of a design with the supplies it records (none: suits either kind)."""
-    from cage.buildsheet import build_sheet
-    from cage.cli import _design_supplies
-
-    return build_sheet(design_obj, _design_supplies(design_obj))
-
-
-def report_build(design_doc: dict, name: str = "design.json"):
-    """(sheet, its JSON document, connection PNGs) for the report of a plan folder."""
-    from cage.connectionfigure import connection_pngs
-    from cage.designfile import design_from_dict
-
-    sheet = sheet_for_design(design_from_dict(design_doc, name))
-    return sheet, sheet_to_dict(sheet, name), connection_pngs(sheet)
-
-
 def register(app: typer.Typer) -> None:
     """Add ``cage build`` to the application."""
 
@@ -174,7 +85,9 @@ def register(app: typer.Typer) -> None:
         """The build sheet: frames, windings, wire and spools, connection, protection (see the README)."""
         from cage.atomicfile import write_bytes, write_text
         from cage.buildsheet import STANDARD_SPOOL_MASSES_KG, build_sheet
-        from cage.cli import _design_supplies, _dump_json, _load_checked_design, _say, _warn
+        from cage.cliargs import load_checked_design as _load_checked_design
+        from cage.terminal import dump_json as _dump_json, say as _say, warn as _warn
+        from cage.workflow import design_supplies as _design_supplies
         from cage.errors import InputError
 
         design_obj = _load_checked_design(design_file)

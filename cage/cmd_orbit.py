@@ -63,7 +63,8 @@ def _satrec(elements: Optional[Path], start, options: dict):
 
 
 def _attitude(mode: Optional[str], spin_axis: str, spin_rate_deg_s: Optional[float], quaternions: Optional[Path]):
-    from cage.attitude import MODES, Attitude, read_quaternion_csv
+    from cage.attitude import MODES, Attitude
+    from cage.measurements import read_quaternion_csv
 
     if mode is None:
         mode = "quaternions" if quaternions is not None else "nadir"

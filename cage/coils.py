@@ -382,7 +382,7 @@ def pack_vs_filament_difference(pair: CoilPair, pack: FilamentPack, box_m,
 
     box_m: test box sides (x, y, z) in metres, centred. The difference field is harmonic in the
     wire-free box, so its largest magnitude is on the box surface: the six faces are sampled on
-    an n_per_edge x n_per_edge grid (``cage.uniformity.box_points_m``).
+    an n_per_edge x n_per_edge grid (``cage.samplepoints.box_points_m``).
     """
     if not isinstance(pack, FilamentPack):
         raise InputError(f"pack must be a FilamentPack, got {type(pack).__name__}")
@@ -394,7 +394,7 @@ def filaments_pack_difference(filament: Filaments, packed: Filaments, axis: str,
                               n_per_edge: int = 9) -> PackDifference:
     """``PackDifference`` of one axis given as its one-filament and its winding-pack filaments
     (per ampere), over the centred test box (faces sampled, see pack_vs_filament_difference)."""
-    from cage.uniformity import box_points_m, deviation_of_field
+    from cage.samplepoints import box_points_m, deviation_of_field
 
     pts = np.vstack([np.zeros((1, 3)), box_points_m(box_m, n_per_edge)])
     b_fil = filaments_field_T(filament, pts)

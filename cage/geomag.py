@@ -141,8 +141,16 @@ def earth_field(latitude_deg: float, longitude_deg: float, altitude_m: float, da
     latitude_deg: geodetic, -90..90. longitude_deg: east positive. altitude_m: above the
     WGS84 ellipsoid. date: datetime.date (00:00 UTC) or datetime.datetime (naive = UTC).
     Dates before 1900 or after 2035 raise InputError.
+
+    Memoised per (position, instant): a run that needs the field at one site and date several
+    times (the plan, its setpoint table, the re-use rules) synthesises it once. The result is a
+    frozen record of floats, so sharing it is safe.
     """
-    when = _as_datetime(date)
+    return _earth_field(float(latitude_deg), float(longitude_deg), float(altitude_m), _as_datetime(date))
+
+
+@functools.lru_cache(maxsize=256)
+def _earth_field(latitude_deg: float, longitude_deg: float, altitude_m: float, when: _dt.datetime) -> EarthField:
     day = when.date()
     if day < FIRST_DATE:
         raise InputError(f"date {day} is before {FIRST_DATE}, where {MODEL_NAME} begins")
@@ -179,6 +187,15 @@ def earth_field(latitude_deg: float, longitude_deg: float, altitude_m: float, da
         extrapolated=bool(warning),
         warning=warning,
     )
+
+
+def model_cage_nT(latitude_deg: float, longitude_deg: float, altitude_m: float, date: _dt.date,
+                  heading_true_deg: float) -> tuple[float, float, float]:
+    """The model field at a position and date in the cage frame of a true heading (nT, cage.frames)."""
+    from cage.frames import ned_to_cage
+
+    earth = earth_field(latitude_deg, longitude_deg, altitude_m, date)
+    return tuple(float(v) for v in ned_to_cage(earth.ned_nT, heading_true_deg))
 
 
 TRACK_CHUNK_POINTS = 20_000

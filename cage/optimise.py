@@ -820,7 +820,7 @@ def plan_warnings(axes, inp: PlanInputs, packs=()) -> list[str]:
 
 def design_from_plan(plan: Plan, inp: PlanInputs, site=None, ambient=None):
     """The :class:`cage.designfile.Design` of a plan, with the requirement and layout it was made for."""
-    from cage.designfile import AxisDesign, Design
+    from cage.design import AxisDesign, Design
 
     axes = []
     for a in plan.axes:

@@ -51,7 +51,7 @@ def content_hash(obj) -> str:
 
 def design_id(design) -> str:
     """The identity of a design: the content hash of its axes (the cage as built)."""
-    from cage.designfile import design_to_dict
+    from cage.design import design_to_dict
 
     return content_hash(design_to_dict(design)["axes"])
 

@@ -8,7 +8,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 
-from cage.report import AXES, DASH, NBSP, _auto, _esc, _fmt, _number, _section, _table, figure_html
+from cage.reporthtml import AXES, DASH, NBSP, _auto, _esc, _fmt, _number, _section, _table, figure_html
 
 # key -> (label, kind, decimals, unit, scale); kind: "number", "per_axis", "text", "list", "size3", "flag"
 _REQUIREMENT = {

@@ -323,7 +323,7 @@ def site_for_design(design, site, heading_explicit: bool):
     """
     import dataclasses
 
-    from cage import sitefile
+    from cage.site import Orientation
 
     ori, loc = site.orientation, site.location
     stated = ori.heading_deg if (ori.stated or heading_explicit) else None
@@ -337,7 +337,7 @@ def site_for_design(design, site, heading_explicit: bool):
     warnings = list(choice.warnings)
     if choice.from_use_site:
         warnings.append(dip_pole_warning(horizontal, ori.heading_reference))
-    site = dataclasses.replace(site, orientation=sitefile.Orientation(choice.heading_true_deg, "true"))
+    site = dataclasses.replace(site, orientation=Orientation(choice.heading_true_deg, "true"))
     return site, choice.note, [w for w in warnings if w]
 
 
@@ -351,7 +351,7 @@ def calibration_ambient(record, where, design_identity, site, amb):
     """
     import datetime as dt
 
-    from cage.ambient import model_cage_nT
+    from cage.geomag import model_cage_nT
 
     fit, prov = record.fit, record.provenance
     loc = site.location

@@ -23,7 +23,8 @@ import pytest
 from orbit_helpers import make_tle
 
 from cage import orbit
-from cage.attitude import Attitude, attitude_matrices, body_field_nT, quaternion_matrices, read_quaternion_csv
+from cage.attitude import Attitude, attitude_matrices, body_field_nT, quaternion_matrices
+from cage.measurements import read_quaternion_csv
 from cage.elementfile import parse_element_set, satrec_of
 from cage.fieldrate import field_rate
 

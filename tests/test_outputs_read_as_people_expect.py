@@ -69,7 +69,7 @@ def test_one_plain_line_per_warning():
     """Cautions keep their own word; no "warning: caution:"; each on one line."""
     import typer
 
-    from cage.cli import _warn
+    from cage.terminal import warn as _warn
 
     seen = []
     orig = typer.echo
