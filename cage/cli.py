@@ -13,10 +13,16 @@ import os
 import sys
 from typing import Optional
 
-import typer
+# Every linear-algebra problem here is tiny (3 x 3 couplings, 12-parameter fits): a BLAS thread
+# pool only adds start-up and hand-off costs. One thread unless the user asked for more; set
+# before numpy is first imported (threadpoolctl would do it later, but is not a dependency).
+for _var in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_var, "1")
 
-from cage.errors import EXIT_UNEXPECTED, CageError, InputError
-from cage.terminal import visible as _visible
+import typer  # noqa: E402
+
+from cage.errors import EXIT_UNEXPECTED, CageError, InputError  # noqa: E402
+from cage.terminal import visible as _visible  # noqa: E402
 
 app = typer.Typer(
     add_completion=False,

@@ -1,0 +1,84 @@
+"""CPU and wall time of the commands users run, each in a fresh process, against its target.
+
+Run: python benchmarks/bench_commands.py [--repeat N] [--quick]
+
+Each command runs as ``python -m cage ...`` in a new process (start-up and imports included,
+as a user sees them), N times (default 3); the CPU time is that of the child process (user +
+system, from ``resource.getrusage(RUSAGE_CHILDREN)``), the wall time from ``time.perf_counter``.
+Prints the medians and the target of each (issue 15): ``cage --help`` under 0.15 s,
+``cage field`` under 0.4 s, ``cage plan`` on each demo site under 3 s of CPU. The other
+commands (design, compare, setpoints, sequence) have no target and are printed for tracking.
+On a loaded machine the wall time says more about the load than about the program; the CPU
+time is the number to compare. --quick: one run each, fewer compare sizes.
+"""
+from __future__ import annotations
+
+import argparse
+import os
+import resource
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+SITES = sorted((ROOT / "sites").glob("*.toml"))
+
+
+def run_once(args: list[str]) -> tuple[float, float]:
+    """(CPU s, wall s) of one ``python -m cage args`` in a fresh process."""
+    before = resource.getrusage(resource.RUSAGE_CHILDREN)
+    t0 = time.perf_counter()
+    done = subprocess.run([sys.executable, "-m", "cage", *args], cwd=ROOT, capture_output=True, text=True,
+                          env={**os.environ, "PYTHONPATH": str(ROOT)})
+    wall = time.perf_counter() - t0
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
+    if done.returncode != 0:
+        raise SystemExit(f"cage {' '.join(args)} failed ({done.returncode}): {done.stderr.strip()}")
+    return (after.ru_utime - before.ru_utime) + (after.ru_stime - before.ru_stime), wall
+
+
+def measure(label: str, args: list[str], repeat: int, target: str = "", cpu_limit_s: float | None = None,
+            wall_limit_s: float | None = None) -> None:
+    runs = [run_once(args) for _ in range(repeat)]
+    cpu = statistics.median(r[0] for r in runs)
+    wall = statistics.median(r[1] for r in runs)
+    verdict = ""
+    if cpu_limit_s is not None:
+        verdict = "met" if cpu < cpu_limit_s else "NOT met"
+    elif wall_limit_s is not None:
+        verdict = ("met" if wall < wall_limit_s else "NOT met (wall)") + \
+                  (", CPU " + ("met" if cpu < wall_limit_s else "not met"))
+    print(f"{label:<40} CPU {cpu:6.2f} s   wall {wall:6.2f} s   (median of {repeat})"
+          + (f"   target {target}: {verdict}" if target else ""), flush=True)
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.split("\n")[0])
+    ap.add_argument("--repeat", type=int, default=3)
+    ap.add_argument("--quick", action="store_true")
+    opts = ap.parse_args()
+    n = 1 if opts.quick else opts.repeat
+    print(f"python {sys.version.split()[0]}, {os.cpu_count()} CPUs, load average "
+          f"{', '.join(f'{v:.1f}' for v in os.getloadavg())}")
+    measure("cage --help", ["--help"], n, "0.15 s", wall_limit_s=0.15)
+    site = str(SITES[0].relative_to(ROOT))
+    measure(f"cage field {site}", ["field", site], n, "0.4 s", wall_limit_s=0.4)
+    with tempfile.TemporaryDirectory() as tmp:
+        for s in SITES:
+            rel = str(s.relative_to(ROOT))
+            measure(f"cage plan {rel}", ["plan", rel, "--out", f"{tmp}/plan-{s.stem}"], n, "3 s CPU",
+                    cpu_limit_s=3.0)
+        design = f"{tmp}/plan-{SITES[0].stem}/design.json"
+        measure("cage design", ["design", site, "--out", f"{tmp}/design.json"], n)
+        sizes = "1.4:2.6:0.4" if opts.quick else "1.2:3.0:0.1"
+        measure(f"cage compare --sizes {sizes}", ["compare", site, "--sizes", sizes], n)
+        measure("cage setpoints (table)", ["setpoints", design, site], n)
+        measure("cage sequence --sphere 1000", ["sequence", design, site, "--sphere", "1000", "--magnitude-uT", "60",
+                                                "--format", "csv"], n)
+
+
+if __name__ == "__main__":
+    main()
