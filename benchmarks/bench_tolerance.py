@@ -20,8 +20,8 @@ sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 from cage.biot_savart import Loop, Polygon, filaments_field_T  # noqa: E402
 from cage.coils import CoilPair, flat_spacing_m  # noqa: E402
-from cage.tolerance import (BuildErrors, _draws, _scaled, _test_points, monte_carlo,  # noqa: E402
-                            pair_system)
+from cage.buildyield import _draws, _scaled, monte_carlo  # noqa: E402
+from cage.tolerance import BuildErrors, _test_points, pair_system  # noqa: E402
 
 
 def systems(shape):

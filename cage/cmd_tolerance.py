@@ -58,7 +58,8 @@ def run_tolerance(design_file: Path, site_file: Path, samples: int, seed: Option
     """Everything the command computes, as a JSON-ready dict (no printing but the progress bar)."""
     import numpy as np
 
-    from cage import tolerance as tol
+    from cage import buildyield as tol
+    from cage import tolerance
     from cage.ambient import site_ambient
     from cage.designfile import load_design
     from cage.errorbudget import SupplyStability, error_budget
@@ -68,7 +69,7 @@ def run_tolerance(design_file: Path, site_file: Path, samples: int, seed: Option
     # Every input is read and checked before the (long) sampling starts.
     design = load_design(design_file)
     site = load_site(site_file)
-    systems = tol.systems_of_design(design)
+    systems = tolerance.systems_of_design(design)
     volume = site.requirement.test_volume_m
     uniformity = site.requirement.uniformity
     until = parse_date(valid_until, "--valid-until") if valid_until else site.date + _dt.timedelta(days=365)

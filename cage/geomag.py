@@ -1,4 +1,4 @@
-"""The local geomagnetic main field from IGRF-14, through ppigrf.
+"""The local geomagnetic main field from IGRF-14 (synthesis in cage.igrf, ppigrf's coefficient file).
 
 Input is geodetic (WGS84) latitude and longitude in degrees, altitude in metres above
 the ellipsoid, and a calendar date (taken at 00:00 UTC). Output is the field in the
@@ -10,26 +10,22 @@ generation", Earth Planets Space (2025). The model is a piecewise-linear functio
 time between its 5-year epochs; the last interval (2025-2030) is the predictive
 secular-variation model.
 
-Care taken around ppigrf 2.1 (it prints its own messages and has edge cases):
-- its printing is kept off the terminal;
-- at latitude exactly +-90 the east component comes back NaN, so the poles are
-  evaluated 1e-6 degrees short of the pole along the given meridian, which defines
-  "north" and "east" there;
-- past the last epoch it holds the last field instead of extrapolating, so we
-  extrapolate linearly with the last interval's secular variation, up to
-  :data:`LAST_DATE`, with a warning;
-- before 1900 it returns NaN, so those dates are refused;
+Edge cases (the synthesis is ``cage.igrf``, numpy only: ppigrf itself imports pandas, about
+0.3-0.4 s per process, so only its coefficient file is used):
+- at latitude exactly +-90 the east component is undefined (1 / sin of the colatitude), so
+  the poles are evaluated 1e-6 degrees short of the pole along the given meridian, which
+  defines "north" and "east" there;
+- past the last epoch the coefficients are held, so we extrapolate linearly with the last
+  interval's secular variation, up to :data:`LAST_DATE`, with a warning;
+- dates before 1900 are refused;
 - secular variation is taken over the model interval that holds the date (the exact
   slope of the piecewise-linear model), so it stays right at the end of the span.
 """
 from __future__ import annotations
 
-import contextlib
 import datetime as _dt
 import functools
-import io
 import math
-import warnings
 from dataclasses import dataclass
 
 import numpy as np
@@ -91,11 +87,9 @@ class EarthField:
 @functools.lru_cache(maxsize=1)
 def model_epochs() -> tuple[_dt.datetime, ...]:
     """The model's epochs (snapshot times) as naive UTC datetimes."""
-    from ppigrf import ppigrf as _ppigrf
+    from cage.igrf import coefficients
 
-    with contextlib.redirect_stdout(io.StringIO()):
-        g, _ = _ppigrf.read_shc()
-    return tuple(t.to_pydatetime() for t in g.index)
+    return coefficients()[0]
 
 
 def _as_datetime(date) -> _dt.datetime:
@@ -111,13 +105,11 @@ def _years(delta: _dt.timedelta) -> float:
 
 
 def _igrf_ned(lat_deg: float, lon_deg: float, alt_m: float, dates: list[_dt.datetime]) -> np.ndarray:
-    """(len(dates), 3) NED field from ppigrf, its printing and warnings suppressed."""
-    import ppigrf
+    """(len(dates), 3) NED field at one point (cage.igrf)."""
+    from cage.igrf import igrf_ned_nT
 
-    with contextlib.redirect_stdout(io.StringIO()), warnings.catch_warnings(), np.errstate(all="ignore"):
-        warnings.simplefilter("ignore")
-        be, bn, bu = ppigrf.igrf(lon_deg, lat_deg, alt_m / 1000.0, dates)
-    out = np.column_stack([np.ravel(bn), np.ravel(be), -np.ravel(bu)])
+    with np.errstate(all="ignore"):
+        out = igrf_ned_nT([lat_deg], [lon_deg], [alt_m], dates)[:, 0, :]
     if not np.all(np.isfinite(out)):
         raise InputError(f"the field model gave no value at latitude {lat_deg:g}, longitude {lon_deg:g}, "
                          f"altitude {alt_m:g} m")
@@ -211,20 +203,16 @@ def _check_span(first: _dt.datetime, last: _dt.datetime) -> None:
 
 def _ned_at_epochs(lat_deg, lon_deg, alt_m, epochs: list[_dt.datetime]) -> np.ndarray:
     """(len(epochs), n, 3) NED field at n points for each epoch, in chunks to bound memory."""
-    import ppigrf
+    from cage.igrf import igrf_ned_nT
 
     lat = np.clip(np.asarray(lat_deg, dtype=float), -90.0 + POLE_OFFSET_DEG, 90.0 - POLE_OFFSET_DEG)
-    lon = np.asarray(lon_deg, dtype=float)
-    h_km = np.asarray(alt_m, dtype=float) / 1000.0
+    lon = np.broadcast_to(np.asarray(lon_deg, dtype=float), lat.shape)
+    alt = np.broadcast_to(np.asarray(alt_m, dtype=float), lat.shape)
     out = np.empty((len(epochs), lat.size, 3))
     for s in range(0, lat.size, TRACK_CHUNK_POINTS):
         sl = slice(s, s + TRACK_CHUNK_POINTS)
-        with contextlib.redirect_stdout(io.StringIO()), warnings.catch_warnings(), np.errstate(all="ignore"):
-            warnings.simplefilter("ignore")
-            be, bn, bu = ppigrf.igrf(lon[sl], lat[sl], h_km[sl], epochs)
-        out[:, sl, 0] = bn
-        out[:, sl, 1] = be
-        out[:, sl, 2] = -bu
+        with np.errstate(all="ignore"):
+            out[:, sl, :] = igrf_ned_nT(lat.ravel()[sl], lon.ravel()[sl], alt.ravel()[sl], epochs)
     if not np.all(np.isfinite(out)):
         k = int(np.flatnonzero(~np.all(np.isfinite(out), axis=(0, 2)))[0])
         raise InputError(f"the field model gave no value at latitude {lat[k]:g}, longitude {lon[k]:g}, "

@@ -9,12 +9,12 @@ from __future__ import annotations
 
 LAYERS: tuple[tuple[str, tuple[str, ...]], ...] = (
     ("physics", (
-        "errors", "checks", "escape", "numberformat", "columnformat", "frames", "geomag", "biot_savart",
-        "samplepoints", "coils", "coilaxis", "coilsystems", "uniformity", "wires", "inductance", "thermal",
+        "errors", "checks", "escape", "numberformat", "columnformat", "frames", "igrf", "geomag", "biot_savart",
+        "samplepoints", "batchfield", "coils", "coilaxis", "coilsystems", "uniformity", "wires", "inductance", "thermal",
         "electrical", "supplies", "site", "orbit", "attitude", "fieldrate", "layers",
     )),
     ("planning", (
-        "channel", "layout", "coillayout", "axissizing", "design", "optimise", "compare", "tolerance", "buildsheet",
+        "channel", "layout", "coillayout", "axissizing", "design", "planinputs", "uniformsize", "winding", "optimise", "compare", "tolerance", "buildyield", "circuitparts", "buildsheet",
     )),
     ("operation", (
         "ambient", "reuse", "provenance", "setpoints", "calibrate", "sequence", "errorbudget", "gradient",

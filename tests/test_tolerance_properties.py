@@ -5,7 +5,8 @@ import numpy as np
 import pytest
 
 from cage.coils import CoilPair
-from cage.tolerance import BuildErrors, monte_carlo, pair_system, tolerance_spec
+from cage.buildyield import monte_carlo, tolerance_spec
+from cage.tolerance import BuildErrors, pair_system
 
 SYSTEMS = [pair_system(CoilPair(a, "round", 1.0 - 0.05 * i, 1.0 - 0.05 * i, 20)) for i, a in enumerate("xyz")]
 BOX = (0.2, 0.2, 0.2)
