@@ -77,7 +77,8 @@ def register(app: typer.Typer) -> None:
             rows = compare_sizes(inp, values)
         if plot is not None:
             from cage.atomicfile import write_bytes
-            from cage.plots import compare_figure, png_bytes
+            from cage.comparefigure import compare_figure
+            from cage.figurestyle import png_bytes
 
             fig = compare_figure([r.as_dict() for r in rows], room_limit, inp.uniformity,
                                  required_cube_m=float(max(inp.test_volume_m)))

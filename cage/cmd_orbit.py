@@ -180,7 +180,7 @@ def orbit(
     if plot is not None:
         from cage.escape import for_figure
         from cage.orbitplots import orbit_figure
-        from cage.plots import png_bytes
+        from cage.figurestyle import png_bytes
 
         fig = orbit_figure(t, result.body_nT, result.track.latitude_deg, result.track.longitude_deg,
                            title=for_figure(f"{name}, from {when:%Y-%m-%d %H:%M} UTC"),

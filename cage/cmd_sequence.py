@@ -129,7 +129,8 @@ def register(app: typer.Typer) -> None:
         text = setpoints_text(table) + "\n" if kind == "table" else render(table, kind)
         if plot is not None:
             from cage.atomicfile import write_bytes
-            from cage.plots import png_bytes, sequence_figure
+            from cage.figurestyle import png_bytes
+            from cage.setpointfigures import sequence_figure
 
             steps = np.arange(len(table)) / rate_Hz if dt is not None else np.arange(len(table), dtype=float)
             failing = np.flatnonzero(~table.within_limits).tolist()

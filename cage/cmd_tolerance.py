@@ -293,7 +293,7 @@ def register(app: typer.Typer) -> None:
                                 show_progress=sys.stderr.isatty(), plot=plot)
         if plot is not None:
             from cage.atomicfile import write_bytes
-            from cage.plots import png_bytes
+            from cage.figurestyle import png_bytes
             from cage.tolerance_plots import uniformity_spread_figure
 
             write_bytes(plot, png_bytes(uniformity_spread_figure(mc)))

@@ -103,6 +103,6 @@ def _box(x, y, w, h):
 
 def connection_pngs(sheet) -> dict[str, bytes]:
     """{"connection_x.png": PNG bytes, ...} for every axis of a ``BuildSheet``."""
-    from cage.plots import png_bytes
+    from cage.figurestyle import png_bytes
 
     return {f"connection_{b.axis}.png": png_bytes(connection_figure(b)) for b in sheet.axes}

@@ -27,7 +27,7 @@ LAYERS: tuple[tuple[str, tuple[str, ...]], ...] = (
         "targetfile", "elementfile", "setpointfile", "buildsheetfile", "pdfexport",
     )),
     ("pictures", (
-        "plots", "tolerance_plots", "orbitplots", "connectionfigure", "reporthtml", "reportsections", "report",
+        "figurestyle", "fieldfigures", "roomfigure", "comparefigure", "setpointfigures", "plots", "tolerance_plots", "orbitplots", "connectionfigure", "reporthtml", "reportsections", "report",
         "reportfiles",
     )),
     ("command line", (

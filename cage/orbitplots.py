@@ -23,7 +23,7 @@ def orbit_figure(t_s, body_nT, latitude_deg, longitude_deg, title: str = "", att
     """
     import matplotlib
 
-    from cage.plots import AXIS_COLOURS, FIG_WIDTH_IN, _RC, _finish, _new_figure
+    from cage.figurestyle import AXIS_COLOURS, FIG_WIDTH_IN, _RC, _finish, _new_figure
 
     t = np.asarray(t_s, dtype=float)
     b = np.asarray(body_nT, dtype=float)

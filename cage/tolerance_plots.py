@@ -9,7 +9,7 @@ def uniformity_spread_figure(mc, title: str = ""):
 
     mc: a ``cage.tolerance.MonteCarlo``. title: already escaped for a figure.
     """
-    from cage.plots import _finish, _new_figure
+    from cage.figurestyle import _finish, _new_figure
 
     fig = _new_figure(11.0, 3.6)
     first = fig.add_subplot(1, 3, 1)

@@ -1,0 +1,197 @@
+"""Figures of the field: uniformity maps in the mid-planes and the field along the axis lines,
+each axis driven alone (cage frame, SI units). Style: ``cage.figurestyle``.
+"""
+from __future__ import annotations
+
+import math
+
+import matplotlib
+import numpy as np
+from matplotlib.colors import LogNorm
+from matplotlib.figure import Figure
+from matplotlib.lines import Line2D
+from matplotlib.patches import Rectangle
+from matplotlib.ticker import FixedLocator, FuncFormatter, MaxNLocator, NullLocator
+
+from cage.coils import AXES, CoilCage, check_cage
+from cage.errors import InputError
+from cage.figurestyle import (AXIS_COLOURS, FIG_WIDTH_IN, _FS, _MAP_FLOOR, _MAP_LEVELS, _RC, _finish, _grid,
+                              _m, _new_figure, _rel_unit, _three_lengths, _tolerance, relative_label)
+
+
+# ---------------------------------------------------------------------------------------------
+# Uniformity maps and axis lines
+# ---------------------------------------------------------------------------------------------
+
+
+def default_map_width_m(cage: CoilCage, test_volume_m) -> float:
+    """Full width (m) of the square region mapped around the centre by default.
+
+    2.5 x the largest side of the test volume, but at most 1.8 x the smallest half-width of
+    the three pairs (a half-width of 0.9 x the smallest coil's), so the map stays inside the
+    coils where the deviation is small enough to read.
+    """
+    check_cage(cage)
+    tv = _three_lengths(test_volume_m, "test_volume_m")
+    inner = min(p.half_width_m for p in cage.pairs)
+    width = 2.5 * float(tv.max()) if tv.max() > 0 else 1.8 * inner
+    return float(min(width, 1.8 * inner))
+
+
+_MAP_PLANES = ("xy", "yz", "zx")
+
+
+def _rel_formatter():
+    return FuncFormatter(lambda v, _pos: relative_label(v) if v > 0 else "0")
+
+
+def uniformity_maps_figure(cage: CoilCage, test_volume_m, tolerance: float, extent_m=None,
+                           n: int = 61) -> Figure:
+    """3 x 3 contour maps of the relative deviation |B(p) - B(0)| / |B(0)|, each axis alone.
+
+    Rows: the driven pair (x, y, z); columns: the mid-planes xy (z = 0), yz (x = 0) and
+    zx (y = 0) through the cage centre. Filled contours on half-decade log levels from 1 ppm
+    to 10 % (cage.uniformity.deviation_map, filament model, per ampere: the deviation does not
+    depend on the current); the tolerance contour drawn bold in black; the test volume's
+    cross-section dashed white.
+
+    test_volume_m: box sides (x, y, z) in metres, or one number for a cube. tolerance: relative
+    (0.001 = 0.1 %). extent_m: full width (m) of the square mapped in every plane (default
+    ``default_map_width_m``). n: grid points along each side of a map.
+    """
+    from cage.uniformity import deviation_map
+
+    check_cage(cage)
+    tv = _three_lengths(test_volume_m, "test_volume_m")
+    tol = _tolerance(tolerance)
+    n = _grid(n, "n", 5)
+    width = default_map_width_m(cage, tv) if extent_m is None else float(extent_m)
+    if not math.isfinite(width) or width <= 0:
+        raise InputError(f"extent_m must be a positive width in metres, got {extent_m!r}")
+
+    cmap = matplotlib.colormaps["viridis"].with_extremes(under="#1a0b2e", over="#fff7a8")
+    norm = LogNorm(vmin=_MAP_LEVELS[0], vmax=_MAP_LEVELS[-1])
+    with matplotlib.rc_context(_RC):
+        fig = _new_figure(FIG_WIDTH_IN, 6.9)
+        axes = fig.subplots(3, 3, sharex="col", sharey="col")
+        filled = None
+        for r, pair in enumerate(cage.pairs):
+            for c, plane in enumerate(_MAP_PLANES):
+                ax = axes[r, c]
+                m = deviation_map(pair, plane, size_m=(width, width), n=(n, n))
+                dev = np.clip(m.deviation, _MAP_FLOOR, None)
+                filled = ax.contourf(m.u_m, m.v_m, dev, levels=_MAP_LEVELS, norm=norm, cmap=cmap,
+                                     extend="both")
+                if dev.min() < tol < dev.max():
+                    ax.contour(m.u_m, m.v_m, dev, levels=[tol], colors="black", linewidths=2.0)
+                iu, iv = AXES.index(plane[0]), AXES.index(plane[1])
+                ax.add_patch(Rectangle((-tv[iu] / 2, -tv[iv] / 2), tv[iu], tv[iv], fill=False,
+                                       edgecolor="white", linestyle="--", linewidth=1.2,
+                                       gid="test_volume"))
+                ax.set_aspect("equal")
+                ax.xaxis.set_major_locator(MaxNLocator(nbins=3, symmetric=True))
+                ax.yaxis.set_major_locator(MaxNLocator(nbins=5, symmetric=True))
+                third = AXES[3 - iu - iv]
+                ax.set_title(f"{pair.axis} pair driven, {third} = 0", fontsize=_FS["base"])
+                ax.set_ylabel(f"{plane[1]} (m)")
+                if r == 2:
+                    ax.set_xlabel(f"{plane[0]} (m)")
+        cbar = fig.colorbar(filled, ax=axes, shrink=0.85, aspect=35, pad=0.02,
+                            ticks=FixedLocator(10.0 ** np.arange(-6, 0)), format=_rel_formatter())
+        cbar.ax.yaxis.set_minor_locator(NullLocator())
+        cbar.ax.axhline(tol, color="black", linewidth=2.5)
+        cbar.set_label("relative deviation |B(p) − B(0)| / |B(0)|  (ppm, %)")
+        fig.suptitle(
+            f"Field uniformity in the mid-planes, each pair driven alone\n"
+            f"tolerance {relative_label(tol)} (bold black line), "
+            f"test volume {_m(tv[0])} × {_m(tv[1])} × {_m(tv[2])} m (dashed white)",
+            fontsize=_FS["title"])
+    return _finish(fig)
+
+
+_LINE_STYLES = ("-", (0, (5, 2)), (0, (1.5, 1.5)))
+
+
+def axis_line_changes(cage: CoilCage, positions_m) -> np.ndarray:
+    """B_a(s e_k) / B_a(0) - 1 for each driven axis a and line direction k (3, 3, len(s)).
+
+    positions_m: positions s (m) along the lines through the centre. Index [a, k, :] is pair a
+    driven alone, along the line in direction k. Filament model (cage.coils.pair_field_T).
+    """
+    from cage.coils import pair_field_T
+
+    s = np.asarray(positions_m, dtype=float)
+    out = np.empty((3, 3, s.size))
+    for a, pair in enumerate(cage.pairs):
+        pts = np.zeros((3 * s.size + 1, 3))
+        for k in range(3):
+            pts[1 + k * s.size: 1 + (k + 1) * s.size, k] = s
+        b = pair_field_T(pair, 1.0, pts)[:, a]
+        out[a] = (b[1:] / b[0] - 1.0).reshape(3, s.size)
+    return out
+
+
+def axis_lines_figure(cage: CoilCage, test_volume_m, tolerance: float, n: int = 201,
+                      extent_m=None) -> Figure:
+    """Relative change of each pair's own field component along the three lines through the centre.
+
+    One panel per driven pair a: B_a(p) / B_a(0) - 1 along the x, y and z lines through the
+    centre (in % or ppm), the tolerance band shaded, the test volume's half-sides marked.
+    By the mirror symmetry of a pair the field on these lines is along a, so the change of
+    B_a is the deviation |B(p) - B(0)| / |B(0)| with its sign.
+
+    extent_m: full length (m) of each line (default ``default_map_width_m``); n: points per line.
+    """
+    check_cage(cage)
+    tv = _three_lengths(test_volume_m, "test_volume_m")
+    tol = _tolerance(tolerance)
+    n = _grid(n, "n", 3)
+    width = default_map_width_m(cage, tv) if extent_m is None else float(extent_m)
+    if not math.isfinite(width) or width <= 0:
+        raise InputError(f"extent_m must be a positive length in metres, got {extent_m!r}")
+    s = np.linspace(-width / 2, width / 2, n)
+    change = axis_line_changes(cage, s)
+    unit, scale = _rel_unit(tol)
+
+    with matplotlib.rc_context(_RC):
+        fig = _new_figure(FIG_WIDTH_IN, 7.2)
+        axes = fig.subplots(3, 1, sharex=True)
+        for a, (ax, pair) in enumerate(zip(axes, cage.pairs)):
+            ax.axhspan(-tol * scale, tol * scale, color="0.88", zorder=0,
+                       label=f"tolerance ±{relative_label(tol)}")
+            ax.axhline(0.0, color="0.5", linewidth=0.6, zorder=1)
+            cube = bool(np.allclose(tv, tv[0]))
+            inside_max = 0.0
+            for k, line_axis in enumerate(AXES):
+                colour = AXIS_COLOURS[line_axis]
+                ax.plot(s, change[a, k] * scale, color=colour, linewidth=1.6,
+                        linestyle=_LINE_STYLES[k], label=f"along {line_axis}",
+                        gid=f"line-{pair.axis}-{line_axis}")
+                half = tv[k] / 2
+                if not cube or k == 0:
+                    for sign in (-1, 1):
+                        ax.axvline(sign * half, color="0.25" if cube else colour,
+                                   linestyle=(0, (4, 3)), linewidth=0.9, alpha=0.8)
+                inside = np.abs(s) <= half + 1e-12
+                if inside.any():
+                    inside_max = max(inside_max, float(np.abs(change[a, k][inside]).max()))
+            # Centre the view on the tolerance band, the curves clipped at +-4 x tolerance
+            # (or at what the test volume reaches, when that is more).
+            reach = max(4.0 * tol, 1.25 * inside_max)
+            seen = np.clip(change[a], -reach, reach)
+            ax.set_ylim(min(-1.5 * tol, float(seen.min()) * 1.05) * scale,
+                        max(1.5 * tol, float(seen.max()) * 1.05) * scale)
+            ax.set_xlim(s[0], s[-1])
+            ax.set_ylabel(f"$B_{pair.axis}/B_{pair.axis}(0) - 1$ ({unit})")
+            ax.set_title(f"{pair.axis} pair driven alone ({pair.shape}, "
+                         f"{'side' if pair.shape == 'square' else 'radius'} {pair.size_m:.3f} m, "
+                         f"spacing {pair.spacing_m:.3f} m)", fontsize=_FS["base"])
+            ax.grid(True, linewidth=0.4, alpha=0.5)
+        handles, labels = axes[0].get_legend_handles_labels()
+        handles.append(Line2D([], [], color="0.25", linestyle=(0, (4, 3)), linewidth=0.9))
+        labels.append("test volume edges" if np.allclose(tv, tv[0])
+                      else "test volume edges (colour of the line)")
+        fig.legend(handles, labels, loc="outside upper center", ncol=5, fontsize=_FS["small"],
+                   frameon=False)
+        axes[-1].set_xlabel("position along the line through the centre (m)")
+    return _finish(fig)
