@@ -1,7 +1,6 @@
 """``cage sequence``: setpoint tables for a sphere of field directions or a replayed time series."""
 from __future__ import annotations
 
-import dataclasses
 import math
 from pathlib import Path
 from typing import Optional
@@ -48,7 +47,7 @@ def register(app: typer.Typer) -> None:
         from cage.setpointfile import render
         from cage.setpointtext import setpoints_text
         from cage.terminal import say, visible, warn
-        from cage.workflow import axis_circuits, flag_rows, setpoint_context, table_of
+        from cage.workflow import sequence_table, setpoint_context
 
         if (sphere is not None) + (series is not None) + (orbit is not None) != 1:
             raise InputError("give exactly one of --sphere N (with --magnitude-uT), --series FILE.csv or --orbit FILE.csv")
@@ -102,27 +101,9 @@ def register(app: typer.Typer) -> None:
             targets = ([f"t={tk:.3f}s" for tk in t.tolist()], np.asarray(field_nT, dtype=float))
             dt = 1.0 / rate_Hz
             times = (t - t[0], dt)
-        table = table_of(design_obj, site, ctx, targets, times)
-        warnings = list(table.warnings)
-        if dt is not None:
-            from cage.sequence import check_slew
-            from cage.setpoints import flag_slew
-
-            r_ohm, l_H = axis_circuits(design_obj, table.supplies, site.coil.ambient_temperature_C, str(design_file))
-            currents = table.setpoint_A
-            check = check_slew(currents, dt, r_ohm, l_H, [s.max_voltage_V for s in table.supplies],
-                               [s.max_current_A for s in table.supplies])
-            table = flag_slew(table, check)
-            if check.failing_steps:
-                shown = ", ".join(table.labels[k] for k in check.failing_steps[:10])
-                more = "" if len(check.failing_steps) <= 10 else f" and {len(check.failing_steps) - 10} more"
-                warnings.append(f"{len(check.failing_steps)} of {len(table)} steps cannot be followed at "
-                                f"{rate_Hz:g} Hz: {shown}{more}")
-        if orbit is not None:
-            warnings += [w for w in summary if w.startswith("warning")]
-        table = dataclasses.replace(table, warnings=tuple(warnings))
-        if dt is None:
-            table = flag_rows(table)
+        table = sequence_table(design_obj, site, ctx, targets, times, rate_Hz if dt is not None else None,
+                               str(design_file),
+                               [w for w in summary if w.startswith("warning")] if orbit is not None else ())
         warnings = table.warnings
         for w in warnings:
             warn(w)

@@ -422,3 +422,32 @@ def axis_circuits(design_obj, supplies, ambient_C, where: str = "design file"):
             raise InputError(f"{where}: axes.{a.name} has neither wire nor resistance_hot_ohm")
         ind.append(a.inductance_H)
     return np.array(r), np.array(ind)
+
+
+def sequence_table(design_obj, site, ctx: SetpointContext, targets, times, rate_Hz: Optional[float] = None,
+                   where: str = "design file", extra_warnings=()):
+    """The setpoint table of a sequence.
+
+    Directions of a sphere (``rate_Hz`` None): every row flagged against the supplies' limits.
+    A time series replayed at ``rate_Hz``: each step checked against what the supplies can
+    follow through the axis's L and R (cage.sequence.check_slew), failing steps flagged and
+    named in one warning. extra_warnings (e.g. an orbit's rate summary) follow the table's own.
+    """
+    table = table_of(design_obj, site, ctx, targets, times)
+    warnings = list(table.warnings)
+    if rate_Hz is not None:
+        from cage.sequence import check_slew
+        from cage.setpoints import flag_slew
+
+        r_ohm, l_H = axis_circuits(design_obj, table.supplies, site.coil.ambient_temperature_C, where)
+        check = check_slew(table.setpoint_A, 1.0 / rate_Hz, r_ohm, l_H, [s.max_voltage_V for s in table.supplies],
+                           [s.max_current_A for s in table.supplies])
+        table = flag_slew(table, check)
+        if check.failing_steps:
+            shown = ", ".join(table.labels[k] for k in check.failing_steps[:10])
+            more = "" if len(check.failing_steps) <= 10 else f" and {len(check.failing_steps) - 10} more"
+            warnings.append(f"{len(check.failing_steps)} of {len(table)} steps cannot be followed at "
+                            f"{rate_Hz:g} Hz: {shown}{more}")
+    warnings += list(extra_warnings)
+    table = dataclasses.replace(table, warnings=tuple(warnings))
+    return flag_rows(table) if rate_Hz is None else table
