@@ -41,12 +41,11 @@ def register(app: typer.Typer) -> None:
         import numpy as np
 
         from cage import sitefile
-        from cage.atomicfile import write_text
         from cage.cliargs import check_out, infer_format, load_checked_design
         from cage.cmd_setpoints import read_calibration
         from cage.setpointfile import render
         from cage.setpointtext import setpoints_text
-        from cage.terminal import say, visible, warn
+        from cage.terminal import emit_table, visible, warn
         from cage.workflow import sequence_table, setpoint_context
 
         if (sphere is not None) + (series is not None) + (orbit is not None) != 1:
@@ -122,11 +121,7 @@ def register(app: typer.Typer) -> None:
                     if ax.get_xlabel():
                         ax.set_xlabel("direction number (row)")
             write_bytes(plot, png_bytes(fig))
-        if out is not None:
-            write_text(out, text)
-            say(f"Wrote {out} ({kind}, {len(table)} rows)")
-        else:
-            typer.echo(text, nl=False)
+        emit_table(out, text, kind, len(table))
         if orbit is not None:
             for line in summary:
                 if not line.startswith("warning"):

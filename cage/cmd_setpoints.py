@@ -77,11 +77,10 @@ def register(app: typer.Typer) -> None:
                                                    help="Calibration file from cage calibrate: its coupling and offset."),
     ):
         """Signed supply currents for nulling and test fields, with voltage and power budgets."""
-        from cage.atomicfile import write_text
         from cage.cliargs import check_out, infer_format, load_checked_design, resolve_site
         from cage.setpointfile import load_table_json, render
         from cage.setpointtext import drift_text, setpoints_text
-        from cage.terminal import say, warn
+        from cage.terminal import emit_table, warn
         from cage.workflow import build_setpoints
 
         design_obj = load_checked_design(design_file)
@@ -104,11 +103,7 @@ def register(app: typer.Typer) -> None:
         for w in table.warnings:
             warn(w)
         text = setpoints_text(table) + "\n" if kind == "table" else render(table, kind)
-        if out is not None:
-            write_text(out, text)
-            say(f"Wrote {out} ({kind}, {len(table)} rows)")
-        else:
-            typer.echo(text, nl=False)
+        emit_table(out, text, kind, len(table))
         if old is not None:
             from cage.setpoints import null_drift
 

@@ -36,3 +36,14 @@ def warn(text: str) -> None:
 def dump_json(obj) -> str:
     """One JSON document, indented, NaN refused, newline-terminated."""
     return json.dumps(obj, indent=2, allow_nan=False) + "\n"
+
+
+def emit_table(out, text: str, kind: str, rows: int) -> None:
+    """A current table to its --out file (atomically, then one line saying so) or to stdout."""
+    if out is not None:
+        from cage.atomicfile import write_text
+
+        write_text(out, text)
+        say(f"Wrote {out} ({kind}, {rows} rows)")
+    else:
+        typer.echo(text, nl=False)
