@@ -2,7 +2,7 @@
 
 Run: python benchmarks/bench_commands.py [--repeat N] [--quick]
 
-Each command runs as ``python -m cage ...`` in a new process (start-up and imports included,
+Each command runs as the ``cage`` script beside this Python (else ``python -m cage``) in a new process (start-up and imports included,
 as a user sees them), N times (default 3); the CPU time is that of the child process (user +
 system, from ``resource.getrusage(RUSAGE_CHILDREN)``), the wall time from ``time.perf_counter``.
 Prints the medians and the target of each (issue 15): ``cage --help`` under 0.15 s,
@@ -27,11 +27,15 @@ ROOT = Path(__file__).resolve().parent.parent
 SITES = sorted((ROOT / "sites").glob("*.toml"))
 
 
+SCRIPT = Path(sys.executable).parent / "cage"
+COMMAND = [str(SCRIPT)] if SCRIPT.exists() else [sys.executable, "-m", "cage"]
+
+
 def run_once(args: list[str]) -> tuple[float, float]:
-    """(CPU s, wall s) of one ``python -m cage args`` in a fresh process."""
+    """(CPU s, wall s) of one ``cage args`` in a fresh process."""
     before = resource.getrusage(resource.RUSAGE_CHILDREN)
     t0 = time.perf_counter()
-    done = subprocess.run([sys.executable, "-m", "cage", *args], cwd=ROOT, capture_output=True, text=True,
+    done = subprocess.run([*COMMAND, *args], cwd=ROOT, capture_output=True, text=True,
                           env={**os.environ, "PYTHONPATH": str(ROOT)})
     wall = time.perf_counter() - t0
     after = resource.getrusage(resource.RUSAGE_CHILDREN)
@@ -61,7 +65,7 @@ def main() -> None:
     ap.add_argument("--quick", action="store_true")
     opts = ap.parse_args()
     n = 1 if opts.quick else opts.repeat
-    print(f"python {sys.version.split()[0]}, {os.cpu_count()} CPUs, load average "
+    print(f"{' '.join(COMMAND)}; python {sys.version.split()[0]}, {os.cpu_count()} CPUs, load average "
           f"{', '.join(f'{v:.1f}' for v in os.getloadavg())}")
     measure("cage --help", ["--help"], n, "0.15 s", wall_limit_s=0.15)
     site = str(SITES[0].relative_to(ROOT))
