@@ -253,6 +253,8 @@ def field(
 
 SHAPE_HELP = "Coil shape on every axis: square, round or either (default: the site's requirement.shape)."
 MINIMISE_HELP = "What the planner minimises: power (at full range), mass (copper) or size (envelope volume)."
+SYSTEM_HELP = ("Coil systems allowed per axis, comma-separated: pair, three, four, four-equal (default: the "
+               "site's requirement.systems, all of them when not given).")
 
 CAUTION_HOT = ("caution: windings run hot at full range; check their temperature on the built coils and "
                "keep within the enamel and frame ratings")
@@ -260,7 +262,7 @@ CAUTION_VOLTAGE = ("caution: supply voltages above about 50 V DC need touch prot
                    "must follow local electrical codes and licensed practice")
 
 
-def _plan_from_site(site, shape, minimise, spacing, max_field_step_nT):
+def _plan_from_site(site, shape, minimise, spacing, max_field_step_nT, system=None):
     from cage.ambient import site_ambient
     from cage.optimise import plan_cage, plan_inputs_from_site
 
@@ -270,18 +272,22 @@ def _plan_from_site(site, shape, minimise, spacing, max_field_step_nT):
     for w in amb.warnings:
         _warn(w)
     inp = plan_inputs_from_site(site, amb.in_force_cage_nT, shape=shape, minimise=minimise, spacing=spacing,
-                                max_field_step_nT=max_field_step_nT)
+                                max_field_step_nT=max_field_step_nT, systems=system)
     return amb, inp, plan_cage(inp)
 
 
 def design_table(plan, inp, packs=()) -> str:
     """The per-axis summary of ``cage design``; ``packs``: optional winding-pack differences."""
-    rows = [
-        ("shape", lambda a: a.pair.shape, ""),
+    from cage.systemplan import axis_turns_text, outer_spacing_m
+
+    multi = any(a.pair is None for a in plan.axes)
+    rows = [("coil system", lambda a: a.geometry.system if a.pair is None else "pair", "")] if multi else []
+    rows += [
+        ("shape", lambda a: a.geometry.shape, ""),
         ("side (square) or diameter (round)",
-         lambda a: f"{a.pair.size_m * (1 if a.pair.shape == 'square' else 2):.3f}", "m"),
-        ("spacing", lambda a: f"{a.pair.spacing_m:.3f}", "m"),
-        ("turns per coil", lambda a: f"{a.pair.turns}", ""),
+         lambda a: f"{a.geometry.size_m * (1 if a.geometry.shape == 'square' else 2):.3f}", "m"),
+        ("spacing" + (" (outermost coils)" if multi else ""), lambda a: f"{outer_spacing_m(a.geometry):.3f}", "m"),
+        ("turns per coil", lambda a: axis_turns_text(a.geometry), ""),
         ("wire", lambda a: a.wire, ""),
         ("resistance at 20 C", lambda a: f"{a.electrics.resistance_20C_ohm:.3f}", "ohm"),
         ("resistance hot", lambda a: f"{a.electrics.resistance_hot_ohm:.3f}", "ohm"),
@@ -380,6 +386,7 @@ def design(
                                                           "free: spacing chosen for the test volume."),
     max_field_step_nT: Optional[float] = typer.Option(
         None, "--max-field-step-nT", help="Largest field step one supply current step may give (nT)."),
+    system: Optional[str] = typer.Option(None, "--system", help=SYSTEM_HELP),
 ):
     """Size a nested three-axis cage for the site's room, test volume, field range and supplies."""
     from cage import sitefile
@@ -388,7 +395,7 @@ def design(
 
     site = sitefile.load_site(site_file)
     _check_out(out, site_file)
-    amb, inp, plan = _plan_from_site(site, shape, minimise, spacing, max_field_step_nT)
+    amb, inp, plan = _plan_from_site(site, shape, minimise, spacing, max_field_step_nT, system)
     design_obj = _stamped_design(design_from_plan(plan, inp, site, amb), site, amb, _design_cautions(plan, inp))
     save_design(out, design_obj)
     _say(f"Design for {site.name} ({amb.source} field, {amb.earth.date.isoformat()}); "
@@ -411,6 +418,7 @@ def compare(
     plot: Optional[Path] = typer.Option(None, "--plot", help="Write the comparison figure (PNG)."),
     max_field_step_nT: Optional[float] = typer.Option(
         None, "--max-field-step-nT", help="Largest field step one supply current step may give (nT)."),
+    system: Optional[str] = typer.Option(None, "--system", help=SYSTEM_HELP),
 ):
     """The best cage at each outer size: envelope, uniform cube, power, copper, fit in the room."""
     from cage import sitefile
@@ -427,7 +435,7 @@ def compare(
     for w in amb.warnings:
         _warn(w)
     inp = plan_inputs_from_site(site, amb.in_force_cage_nT, shape=shape, minimise=minimise,
-                                max_field_step_nT=max_field_step_nT)
+                                max_field_step_nT=max_field_step_nT, systems=system)
     if sys.stderr.isatty() and not as_json:
         with typer.progressbar(length=len(values), label="sizes", file=sys.stderr) as bar:
             rows = compare_sizes(inp, values, progress=lambda _s: bar.update(1))
@@ -891,6 +899,7 @@ def plan(
     targets: Optional[Path] = typer.Option(None, "--targets", help="CSV of extra targets: label,x_uT,y_uT,z_uT[,frame]."),
     max_field_step_nT: Optional[float] = typer.Option(
         None, "--max-field-step-nT", help="Largest field step one supply current step may give (nT)."),
+    system: Optional[str] = typer.Option(None, "--system", help=SYSTEM_HELP),
 ):
     """The main job: field, design, setpoints (CSV, JSON, SCPI), figures and report, into one folder."""
     from cage import sitefile
@@ -903,7 +912,7 @@ def plan(
 
     refuse_overwriting_inputs(out, [p for p in (site_file, targets) if p is not None], folder=True)
     check_replaceable(out, ())
-    amb, inp, plan_obj = _plan_from_site(site, shape, minimise, "flat", max_field_step_nT)
+    amb, inp, plan_obj = _plan_from_site(site, shape, minimise, "flat", max_field_step_nT, system)
     design_obj = _stamped_design(design_from_plan(plan_obj, inp, site, amb), site, amb,
                                  _design_cautions(plan_obj, inp))
     _, table = build_setpoints(design_obj, site, targets_file=targets)
