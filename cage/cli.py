@@ -331,6 +331,9 @@ def design_table(plan, inp, packs=()) -> str:
         unif = ", ".join(f"{a} {d.box_deviation_pack * 100:.4f} %" for a, d in zip("xyz", packs))
         lines.append(f"Winding pack vs one filament: centre field differs by {centre}; "
                      f"uniformity with the pack {unif}")
+    from cage.systemplan import build_tolerance_lines
+
+    lines += build_tolerance_lines(plan, inp)
     return "\n".join(lines)
 
 
