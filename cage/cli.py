@@ -463,17 +463,20 @@ def compare(
         return
     _say(f"Cage sizes for {site.name}: test volume {' x '.join(f'{v:g}' for v in inp.test_volume_m)} m "
          f"at {inp.uniformity * 100:g} %")
-    _say(f"{'outer (m)':>10} {'shape':>7} {'envelope x, y, z (m)':>22} {'cube (m)':>9} {'power (W)':>10} "
+    multi = any(r.system != "pair" for r in rows)
+    sys_head = f" {'system':>10}" if multi else ""
+    _say(f"{'outer (m)':>10}{sys_head} {'shape':>7} {'envelope x, y, z (m)':>22} {'cube (m)':>9} {'power (W)':>10} "
          f"{'copper (kg)':>12}  fits room")
     for r in rows:
+        sys_cell = f" {r.system:>10}" if multi else ""
         if not r.feasible:
-            _say(f"{r.outer_size_m:>10.2f}  none: {r.reason}")
+            _say(f"{r.outer_size_m:>10.2f}{sys_cell}  none: {r.reason}")
             continue
         env = ", ".join(f"{v:.2f}" for v in r.envelope_m)
         mark = "yes" if r.fits_room else "no"
         if r.meets_requirement:
             mark += " (meets requirement)"
-        _say(f"{r.outer_size_m:>10.2f} {r.shape:>7} {env:>22} {r.uniform_cube_m:>9.3f} {r.total_power_W:>10.1f} "
+        _say(f"{r.outer_size_m:>10.2f}{sys_cell} {r.shape:>7} {env:>22} {r.uniform_cube_m:>9.3f} {r.total_power_W:>10.1f} "
              f"{r.copper_mass_kg:>12.1f}  {mark}")
     if plot is not None:
         _say(f"Wrote {plot}")

@@ -311,3 +311,110 @@ def build_tolerance_lines(plan, inp) -> list[str]:
 
     lines = sensitivity_summary_lines(plan.axis_cage.axes, inp.uniformity, box_m=inp.test_volume_m)
     return ["Build tolerances (one coil at a time; survey the built cage):"] + [f"  {line}" for line in lines]
+
+
+# --------------------------------------------------------------------------- compare by system
+
+def largest_nesting_axis_size_m(axis: str, shape: str, system: str, outer, frame, upper_m: float,
+                                tolerance_m: float = 5e-4) -> float | None:
+    """Largest nominal size <= upper_m of ``system`` on ``axis`` whose every coil clears every coil
+    of the axes in ``outer`` (``cage.coillayout.axis_clears``), by bisection as
+    ``cage.layout.largest_nesting_size_m``; None if even 5 % of upper_m does not clear."""
+    from cage.coillayout import axis_clears
+    from cage.coilsystems import system_axis
+    from cage.layout import _bisect_edge
+
+    def ok(size: float) -> bool:
+        return axis_clears(system_axis(axis, shape, system, size), outer, frame)
+
+    if ok(upper_m):
+        return float(upper_m)
+    lo = 0.05 * upper_m
+    if not ok(lo):
+        return None
+    return _bisect_edge(ok, good=lo, bad=float(upper_m), tolerance=tolerance_m)
+
+
+def largest_uniform_cube_m(ax, tolerance: float, rel_precision: float = 1e-4) -> float:
+    """Side (m) of the largest centred cube over which the axis ``ax`` (any coils) keeps
+    ``tolerance`` (exact field, ``cage.axissizing.axis_deviation``), within the coils' clear
+    volume (``wires_clear_volume``): bisection on the side."""
+    from cage.axissizing import axis_deviation, wires_clear_volume
+
+    def ok(side: float) -> bool:
+        box = (side, side, side)
+        return wires_clear_volume(ax, box_m=box) and axis_deviation(ax, box_m=box) <= tolerance
+
+    lo, hi = 0.0, 2.0 * ax.half_width_m
+    while hi - lo > rel_precision * hi:
+        mid = 0.5 * (lo + hi)
+        lo, hi = (mid, hi) if ok(mid) else (lo, mid)
+    return lo
+
+
+def compare_system_rows(inp, sizes_m, system: str, progress=None) -> list:
+    """``cage.compare.compare_sizes`` for cages whose three axes are all ``system`` (three- or
+    four-coil): at each outer size (side of the outermost squares, or diameter of the outermost
+    largest circle) each order of the axes and each shape the system has, the outermost axis takes
+    that size and each axis further in the largest size no wider than the one outside it that
+    clears every coil outside it; windings by ``winding_for_axis``; the best by the objective,
+    preferring cages that fit the room and meet the uniformity. Rows carry ``system``."""
+    from cage.coilaxis import AxisCage
+    from cage.coillayout import check_axes_layout
+    from cage.coilsystems import system_axis, systems_for_shape
+    from cage.compare import CompareRow, _size_from_outer
+
+    shapes = [s for s in inp.shapes if system in systems_for_shape(s)]
+    orders = [inp.axis_order] if inp.axis_order else list(itertools.permutations(AXES))
+    windings: dict = {}
+    rows = []
+    for outer in sizes_m:
+        outer = float(outer)
+        best, reason = None, "" if shapes else f"no {system} system for the allowed shapes"
+        for order in orders:
+            for shape in shapes:
+                placed = [system_axis(order[0], shape, system, _size_from_outer(shape, outer))]
+                for axis in order[1:]:
+                    upper = _size_from_outer(shape, 2.0 * placed[-1].half_width_m)
+                    size = largest_nesting_axis_size_m(axis, shape, system, placed, inp.frame, upper)
+                    if size is None:
+                        break
+                    placed.append(system_axis(axis, shape, system, size))
+                if len(placed) < 3:
+                    reason = f"the frames do not nest at {outer:g} m"
+                    continue
+                by_axis = {p.axis: p for p in placed}
+                cage1 = AxisCage(by_axis["x"], by_axis["y"], by_axis["z"])
+                axes = []
+                for ax in cage1.axes:
+                    if ax not in windings:
+                        windings[ax] = winding_for_axis(ax, inp, ax.size_m)
+                    plan, why, _ = windings[ax]
+                    if plan is None:
+                        reason = why
+                        break
+                    axes.append(plan)
+                if len(axes) < 3:
+                    continue
+                layout = check_axes_layout(cage1, inp.frame, inp.room)
+                power = sum(a.drive.power_W for a in axes)
+                mass = sum(a.electrics.copper_mass_kg for a in axes)
+                score = {"power": power, "mass": mass, "size": float(np.prod(layout.envelope_m))}[inp.minimise]
+                meets = all(a.uniformity_reached <= inp.uniformity for a in axes) and layout.fits_room
+                key = (not layout.fits_room, not meets, score)
+                if best is None or key < best[0]:
+                    best = (key, shape, order, cage1, axes, layout, power, mass, meets)
+        if best is None:
+            rows.append(CompareRow(outer_size_m=outer, feasible=False, reason=reason or "no candidate",
+                                   system=system))
+        else:
+            _, shape, order, cage1, axes, layout, power, mass, meets = best
+            cube = min(largest_uniform_cube_m(ax, inp.uniformity) for ax in cage1.axes)
+            rows.append(CompareRow(
+                outer_size_m=outer, feasible=True, shape=shape, order=tuple(order),
+                shapes=tuple(ax.shape for ax in cage1.axes), sizes_m=tuple(ax.size_m for ax in cage1.axes),
+                envelope_m=layout.envelope_m, uniform_cube_m=cube, total_power_W=power, copper_mass_kg=mass,
+                fits_room=layout.fits_room, meets_requirement=meets, system=system))
+        if progress is not None:
+            progress(outer)
+    return rows

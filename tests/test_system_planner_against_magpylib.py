@@ -181,3 +181,49 @@ def test_unknown_system_names_are_refused_in_one_line(run_cli, tmp_path, line, o
     assert run.code == 2, run
     assert len(run.err.strip().splitlines()) == 1 and "Traceback" not in run.err
     assert "system" in run.err
+
+
+def test_compare_gives_rows_per_system_and_the_four_coil_cube_beats_the_pair(run_cli, tmp_path):
+    site = _site(tmp_path, systems_line='systems = ["pair", "four"]')
+    plot = tmp_path / "compare.png"
+    run = run_cli("compare", site, "--sizes", "1.6,2.0", "--json", "--plot", plot)
+    assert run.code == 0, run
+    rows = json.loads(run.out)["rows"]
+    by = {(r["system"], r["outer_size_m"]): r for r in rows}
+    assert {r["system"] for r in rows} == {"pair", "four"}
+    assert plot.stat().st_size > 0
+    for outer in (1.6, 2.0):
+        pair, four = by[("pair", outer)], by[("four", outer)]
+        if not (pair["feasible"] and four["feasible"]):
+            continue
+        # at equal outer size the 0.1 % cube of four squares is far larger than the pair's
+        # (Merritt, Purcell and Stroink, Rev. Sci. Instrum. 54, 879 (1983); the figure: 2.5x)
+        assert four["uniform_cube_m"] >= 2.5 * pair["uniform_cube_m"], (pair, four)
+    four = by[("four", 2.0)]
+    assert four["feasible"]
+    # the four-coil row's cube, rebuilt in magpylib from the compared outer size: the x axis alone
+    # (outermost squares of 2.0 m side when x is outermost; else its reported side)
+    side = four["centreline_sizes_m"]["x"]
+    from cage.coilsystems import system_axis
+
+    ax = system_axis("x", "square", "four", side)
+    entry = {"shape": "square", "coils": [{"position_m": c.position_m, "turns": c.turns, "side_m": c.size_m}
+                                          for c in ax.coils]}
+    src = _mag_axis("x", entry)
+    cube = four["uniform_cube_m"]
+    b0 = src.getB(np.zeros(3))
+    b = src.getB(_box_faces((cube,) * 3))
+    assert np.max(np.linalg.norm(b - b0, axis=1)) / np.linalg.norm(b0) <= 0.001 * (1 + 1e-3)
+
+
+def test_compare_figure_draws_one_line_per_system():
+    from cage.plots import compare_figure
+
+    rows = [{"outer_size_m": s, "feasible": True, "total_power_W": p, "uniform_cube_m": c, "copper_mass_kg": 10.0,
+             "fits_room": True, "shape": "square", "system": system}
+            for system, p, c in (("pair", 50.0, 0.3), ("four", 20.0, 0.8)) for s in (1.5, 2.0)]
+    fig = compare_figure(rows, 2.4, 0.001)
+    gids = {line.get_gid() for ax in fig.axes for line in ax.get_lines()}
+    assert {"compare-pair", "compare-four"} <= gids
+    labels = [t.get_text() for t in fig.legends[0].get_texts()]
+    assert any("four" in t for t in labels) and any("pair" in t for t in labels)
