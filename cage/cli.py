@@ -254,7 +254,7 @@ def field(
 SHAPE_HELP = "Coil shape on every axis: square, round or either (default: the site's requirement.shape)."
 MINIMISE_HELP = "What the planner minimises: power (at full range), mass (copper) or size (envelope volume)."
 SYSTEM_HELP = ("Coil systems allowed per axis, comma-separated: pair, three, four, four-equal (default: the "
-               "site's requirement.systems, all of them when not given).")
+               "site's requirement.systems; pairs when not given).")
 
 CAUTION_HOT = ("caution: windings run hot at full range; check their temperature on the built coils and "
                "keep within the enamel and frame ratings")

@@ -128,10 +128,12 @@ def _check_design_in_magpylib(raw):
 
 
 def test_no_pair_fits_the_room_but_a_four_coil_cage_is_planned(run_cli, tmp_path):
-    site = _site(tmp_path)
-    # the pair alone is refused (exit 3, one line naming the room)
-    pairs = run_cli("design", site, "--system", "pair", "--out", tmp_path / "p.json")
-    assert pairs.code == 3 and "room" in pairs.err and "Traceback" not in pairs.err, pairs
+    # without requirement.systems the planner keeps to pairs, and no pair fits: refused (exit 3,
+    # one line naming the room), as with --system pair
+    for args in ((), ("--system", "pair")):
+        pairs = run_cli("design", _site(tmp_path, name="pairs.toml"), *args, "--out", tmp_path / "p.json")
+        assert pairs.code == 3 and "room" in pairs.err and "Traceback" not in pairs.err, pairs
+    site = _site(tmp_path, systems_line='systems = ["pair", "three", "four"]')
     run = run_cli("design", site, "--out", tmp_path / "d.json")
     assert run.code == 0, run
     raw = json.loads((tmp_path / "d.json").read_text())
