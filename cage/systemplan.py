@@ -64,7 +64,7 @@ def winding_for_axis(ax1, inp, uniform_size_m: float):
     copper at the fewest feasible (bisection: voltage and temperature fall as turns rise)."""
     from cage.axissizing import axis_deviation
     from cage.electrical import coil_axis_electrics, max_turns
-    from cage.optimise import UNIFORMITY_GRID, AxisPlan  # noqa: F401  (grid shared with the pair planner)
+    from cage.optimise import AxisPlan, fewest_feasible
     from cage.supplies import check_drive, field_step_nT
 
     a = AXES.index(ax1.axis)
@@ -115,14 +115,7 @@ def winding_for_axis(ax1, inp, uniform_size_m: float):
                  f"{inp.max_winding_temperature_C:g} C limit")
             continue
         if inp.minimise == "mass":
-            lo, hi = k_cur - 1, k_hi
-            while hi - lo > 1:
-                mid = (lo + hi) // 2
-                trial = evaluate(mid)
-                if trial[4]:
-                    hi, chosen = mid, trial
-                else:
-                    lo = mid
+            chosen = fewest_feasible(evaluate, k_cur - 1, k_hi, chosen)
         ax, current, el, drive, _, k = chosen
         key = (el.copper_mass_kg, drive.power_W) if inp.minimise == "mass" else (drive.power_W, el.copper_mass_kg)
         if best_key is None or key < best_key:
@@ -322,17 +315,10 @@ def largest_nesting_axis_size_m(axis: str, shape: str, system: str, outer, frame
     ``cage.layout.largest_nesting_size_m``; None if even 5 % of upper_m does not clear."""
     from cage.coillayout import axis_clears
     from cage.coilsystems import system_axis
-    from cage.layout import _bisect_edge
+    from cage.layout import largest_clear_size_m
 
-    def ok(size: float) -> bool:
-        return axis_clears(system_axis(axis, shape, system, size), outer, frame)
-
-    if ok(upper_m):
-        return float(upper_m)
-    lo = 0.05 * upper_m
-    if not ok(lo):
-        return None
-    return _bisect_edge(ok, good=lo, bad=float(upper_m), tolerance=tolerance_m)
+    return largest_clear_size_m(lambda size: axis_clears(system_axis(axis, shape, system, size), outer, frame),
+                                upper_m, tolerance_m)
 
 
 def largest_uniform_cube_m(ax, tolerance: float, rel_precision: float = 1e-4) -> float:

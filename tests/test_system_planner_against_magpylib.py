@@ -14,6 +14,8 @@ import pytest
 
 magpy = pytest.importorskip("magpylib")
 
+from test_v2_design_setpoints_against_magpylib import _mag_axis as _mag_square_axis  # noqa: E402  (squares)
+
 AXES = ("x", "y", "z")
 
 # An invented scenario: a 3 m cube of a room (2.4 m inside its clearance) and a 0.5 m test cube
@@ -70,26 +72,19 @@ def _site(tmp_path, systems_line="", shape="square", name="site.toml"):
 def _mag_axis(name, entry):
     """magpylib sources of one axis, from the design file's coil list alone (1 A through the series
     winding: each coil carries its turns as ampere-turns)."""
+    if entry["shape"] == "square":
+        return _mag_square_axis(name, entry)
     i = AXES.index(name)
-    iu, iv = (i + 1) % 3, (i + 2) % 3
     out = []
     for c in entry["coils"]:
-        if entry["shape"] == "square":
-            h = c["side_m"] / 2
-            v = np.zeros((4, 3))
-            v[:, i] = c["position_m"]
-            v[:, iu] = (h, h, -h, -h)  # right-handed about +axis
-            v[:, iv] = (-h, h, h, -h)
-            out.append(magpy.current.Polyline(current=c["turns"], vertices=np.vstack([v, v[:1]])))
-        else:
-            loop = magpy.current.Circle(current=c["turns"], diameter=2 * c["radius_m"])
-            pos = np.zeros(3)
-            pos[i] = c["position_m"]
-            # magpylib's Circle lies in its local xy plane, axis +z: turn +z onto the cage axis
-            rot = {0: ("y", 90.0), 1: ("x", -90.0), 2: ("z", 0.0)}[i]
-            loop.rotate_from_angax(rot[1], rot[0])
-            loop.move(pos)
-            out.append(loop)
+        loop = magpy.current.Circle(current=c["turns"], diameter=2 * c["radius_m"])
+        pos = np.zeros(3)
+        pos[i] = c["position_m"]
+        # magpylib's Circle lies in its local xy plane, axis +z: turn +z onto the cage axis
+        rot = {0: ("y", 90.0), 1: ("x", -90.0), 2: ("z", 0.0)}[i]
+        loop.rotate_from_angax(rot[1], rot[0])
+        loop.move(pos)
+        out.append(loop)
     return magpy.Collection(*out)
 
 
