@@ -813,6 +813,12 @@ def finish_plan(plan: Plan, inp: PlanInputs) -> Plan:
                                notes=tuple(plan_notes(plan, inp)))
 
 
+def _axis_name(a) -> str:
+    """The axis an AxisPlan-like record drives (its pair's, else its coils')."""
+    pair = getattr(a, "pair", None)
+    return pair.axis if pair is not None else a.coil_axis.axis
+
+
 def plan_notes(plan: Plan, inp: PlanInputs) -> list[str]:
     """Plain statements about a plan: the nesting order when the site fixed it, and each axis whose
     supply is much larger than it needs, with the field resolution that results."""
@@ -822,7 +828,7 @@ def plan_notes(plan: Plan, inp: PlanInputs) -> list[str]:
     for a in plan.axes:
         share = a.full_current_A / a.supply.max_current_A
         if share < LARGE_SUPPLY_FRACTION:
-            out.append(f"axis {a.axis_name}: the supply is much larger than needed: full range takes "
+            out.append(f"axis {_axis_name(a)}: the supply is much larger than needed: full range takes "
                        f"{a.full_current_A:.3g} A of its {a.supply.max_current_A:g} A ({share:.0%}); its "
                        f"{a.supply.resolution_A:g} A step gives a field step of {a.field_step_nT:.1f} nT "
                        f"(ask for a finer one with max_field_step_nT)")
@@ -853,20 +859,20 @@ def plan_warnings(axes, inp: PlanInputs, packs=()) -> list[str]:
     out = []
     for a, d in zip(axes, packs):
         if d.box_deviation_pack > inp.uniformity:
-            out.append(f"axis {a.axis_name}: with the real winding pack the uniformity is "
+            out.append(f"axis {_axis_name(a)}: with the real winding pack the uniformity is "
                        f"{d.box_deviation_pack * 100:.4f} %, over the {inp.uniformity * 100:g} % asked")
     for a in axes:
         el = a.electrics
         if el.current_density_high:
-            out.append(f"axis {a.axis_name}: current density {el.current_density_A_per_mm2:.1f} A/mm^2 at full range "
+            out.append(f"axis {_axis_name(a)}: current density {el.current_density_A_per_mm2:.1f} A/mm^2 at full range "
                        f"is above the common air-cooled limit of about 3 A/mm^2")
         if el.winding_temperature_C > inp.max_winding_temperature_C - 5.0:
-            out.append(f"axis {a.axis_name}: the winding reaches {el.winding_temperature_C:.0f} C at full range, "
+            out.append(f"axis {_axis_name(a)}: the winding reaches {el.winding_temperature_C:.0f} C at full range, "
                        f"close to the {inp.max_winding_temperature_C:g} C limit; check it on the built coil")
         if abs(a.drive.voltage_V) > 50.0:
-            out.append(f"axis {a.axis_name}: {abs(a.drive.voltage_V):.0f} V at full range; above about 50 V DC "
+            out.append(f"axis {_axis_name(a)}: {abs(a.drive.voltage_V):.0f} V at full range; above about 50 V DC "
                        f"touch protection is required by most electrical codes")
-    unipolar = [a.axis_name for a in axes if not a.supply.bipolar]
+    unipolar = [_axis_name(a) for a in axes if not a.supply.bipolar]
     if unipolar:
         out.append(f"axis {', '.join(unipolar)}: unipolar supply; negative currents need a polarity switch "
                    f"(switch only at zero current: the coil's stored energy arcs otherwise)")
