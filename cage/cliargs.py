@@ -21,6 +21,8 @@ MagneticOpt = typer.Option(False, "--heading-magnetic", help="The heading is fro
 SHAPE_HELP = "Coil shape on every axis: square, round or either (default: the site's requirement.shape)."
 MINIMISE_HELP = "What the planner minimises: power (at full range), mass (copper) or size (envelope volume)."
 STEP_HELP = "Largest field step one supply current step may give (nT)."
+SYSTEM_HELP = ("Coil systems allowed per axis, comma-separated: pair, three, four, four-equal (default: the "
+               "site's requirement.systems; pairs when not given).")
 
 
 def resolve_site(site_file: Optional[Path], lat: Optional[float], lon: Optional[float],

@@ -7,7 +7,7 @@ from typing import Optional
 
 import typer
 
-from cage.cliargs import MINIMISE_HELP, SHAPE_HELP, STEP_HELP
+from cage.cliargs import MINIMISE_HELP, SHAPE_HELP, STEP_HELP, SYSTEM_HELP
 
 
 def register(app: typer.Typer) -> None:
@@ -23,6 +23,7 @@ def register(app: typer.Typer) -> None:
         spacing: str = typer.Option("flat", "--spacing", help="flat: each pair at its flat-field spacing; "
                                                               "free: spacing chosen for the test volume."),
         max_field_step_nT: Optional[float] = typer.Option(None, "--max-field-step-nT", help=STEP_HELP),
+        system: Optional[str] = typer.Option(None, "--system", help=SYSTEM_HELP),
     ):
         """Size a nested three-axis cage for the site's room, test volume, field range and supplies."""
         from cage import sitefile
@@ -34,7 +35,7 @@ def register(app: typer.Typer) -> None:
 
         site = sitefile.load_site(site_file)
         check_out(out, site_file)
-        planned = plan_design(site, shape, minimise, spacing, max_field_step_nT)
+        planned = plan_design(site, shape, minimise, spacing, max_field_step_nT, system)
         for w in planned.amb.warnings:
             warn(w)
         save_design(out, planned.design)
@@ -56,6 +57,7 @@ def register(app: typer.Typer) -> None:
         as_json: bool = typer.Option(False, "--json", help="Print one JSON object instead of a table."),
         plot: Optional[Path] = typer.Option(None, "--plot", help="Write the comparison figure (PNG)."),
         max_field_step_nT: Optional[float] = typer.Option(None, "--max-field-step-nT", help=STEP_HELP),
+        system: Optional[str] = typer.Option(None, "--system", help=SYSTEM_HELP),
     ):
         """The best cage at each outer size: envelope, uniform cube, power, copper, fit in the room."""
         from cage import sitefile
@@ -67,7 +69,7 @@ def register(app: typer.Typer) -> None:
         site = sitefile.load_site(site_file)
         check_out(plot, site_file)
         values = parse_sizes(sizes)
-        amb, inp, room_limit = compare_inputs(site, shape, minimise, max_field_step_nT)
+        amb, inp, room_limit = compare_inputs(site, shape, minimise, max_field_step_nT, system)
         for w in amb.warnings:
             warn(w)
         if sys.stderr.isatty() and not as_json:
@@ -90,17 +92,20 @@ def register(app: typer.Typer) -> None:
             return
         say(f"Cage sizes for {site.name}: test volume {' x '.join(f'{v:g}' for v in inp.test_volume_m)} m "
             f"at {inp.uniformity * 100:g} %")
-        say(f"{'outer (m)':>10} {'shape':>7} {'envelope x, y, z (m)':>22} {'cube (m)':>9} {'power (W)':>10} "
+        multi = any(r.system != "pair" for r in rows)
+        sys_head = f" {'system':>10}" if multi else ""
+        say(f"{'outer (m)':>10}{sys_head} {'shape':>7} {'envelope x, y, z (m)':>22} {'cube (m)':>9} {'power (W)':>10} "
             f"{'copper (kg)':>12}  fits room")
         for r in rows:
+            sys_cell = f" {r.system:>10}" if multi else ""
             if not r.feasible:
-                say(f"{r.outer_size_m:>10.2f}  none: {r.reason}")
+                say(f"{r.outer_size_m:>10.2f}{sys_cell}  none: {r.reason}")
                 continue
             env = ", ".join(f"{v:.2f}" for v in r.envelope_m)
             mark = "yes" if r.fits_room else "no"
             if r.meets_requirement:
                 mark += " (meets requirement)"
-            say(f"{r.outer_size_m:>10.2f} {r.shape:>7} {env:>22} {r.uniform_cube_m:>9.3f} {r.total_power_W:>10.1f} "
-                f"{r.copper_mass_kg:>12.1f}  {mark}")
+            say(f"{r.outer_size_m:>10.2f}{sys_cell} {r.shape:>7} {env:>22} {r.uniform_cube_m:>9.3f} "
+                f"{r.total_power_W:>10.1f} {r.copper_mass_kg:>12.1f}  {mark}")
         if plot is not None:
             say(f"Wrote {plot}")

@@ -9,7 +9,7 @@ from typing import Optional
 
 import typer
 
-from cage.cliargs import (MINIMISE_HELP, SHAPE_HELP, STEP_HELP, AltOpt, DateOpt, HeadingOpt, LatOpt, LonOpt,
+from cage.cliargs import (MINIMISE_HELP, SHAPE_HELP, STEP_HELP, SYSTEM_HELP, AltOpt, DateOpt, HeadingOpt, LatOpt, LonOpt,
                           MagneticOpt, SiteArg)
 from cage.errors import InputError
 
@@ -154,6 +154,7 @@ def register(app: typer.Typer) -> None:
         minimise: str = typer.Option("power", "--minimise", help=MINIMISE_HELP),
         targets: Optional[Path] = typer.Option(None, "--targets", help=TARGETS_HELP),
         max_field_step_nT: Optional[float] = typer.Option(None, "--max-field-step-nT", help=STEP_HELP),
+        system: Optional[str] = typer.Option(None, "--system", help=SYSTEM_HELP),
     ):
         """The main job: field, design, setpoints (CSV, JSON, SCPI), figures and report, into one folder."""
         from cage import sitefile
@@ -170,7 +171,7 @@ def register(app: typer.Typer) -> None:
         refuse_overwriting_inputs(out, [p for p in (site_file, targets) if p is not None], folder=True)
         check_replaceable(out, ())
         user_targets = read_targets(targets) if targets is not None else ()
-        run = plan_run(site, shape, minimise, max_field_step_nT, user_targets)
+        run = plan_run(site, shape, minimise, max_field_step_nT, user_targets, system)
         planned, table = run.planned, run.table
         for w in planned.amb.warnings:
             warn(w)

@@ -283,3 +283,26 @@ def system_axis(axis: str, shape: str, system: str, size_m: float, multiplier: i
         positions = (-spacing_per_size / 2.0, spacing_per_size / 2.0)
     coils = tuple(Coil(p * size, n * k, s * size) for p, n, s in zip(positions, g.turns, g.sizes))
     return CoilAxis(axis, shape, system, coils)
+
+
+def _shown(value) -> str:
+    """A value as a one-line message shows it (as the site reader does): repr, cut at 40 characters."""
+    text = repr(value)
+    return text if len(text) <= 40 else text[:37] + "..."
+
+
+def parse_systems(value, where: str) -> tuple[str, ...]:
+    """The coil systems named in ``value`` (a list of names, or one comma-separated text), checked
+    against ``SYSTEMS``, in that order, without repeats; InputError naming ``where``."""
+    if isinstance(value, str):
+        names = [v.strip() for v in value.split(",")]
+    elif isinstance(value, (list, tuple)):
+        names = list(value)
+    else:
+        raise InputError(f"{where} must be a list of coil systems ({', '.join(SYSTEMS)}), got {_shown(value)}")
+    if not names:
+        raise InputError(f"{where} must name at least one coil system ({', '.join(SYSTEMS)})")
+    for name in names:
+        if not isinstance(name, str) or name not in SYSTEMS:
+            raise InputError(f"{where}: unknown coil system {_shown(name)}; known: {', '.join(SYSTEMS)}")
+    return tuple(s for s in SYSTEMS if s in names)

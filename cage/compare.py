@@ -23,7 +23,8 @@ import numpy as np
 from cage.coils import AXES, CoilCage, CoilPair, flat_spacing_m
 from cage.errors import InputError
 from cage.layout import check_layout, largest_nesting_size_m
-from cage.optimise import PlanInputs, choose_winding
+from cage.planinputs import PlanInputs
+from cage.winding import choose_winding
 
 MAX_SIZES = 400
 
@@ -49,6 +50,7 @@ class CompareRow:
     fits_room: bool = False
     meets_requirement: bool = False
     shapes: tuple[str, ...] = ()  # per axis x, y, z
+    system: str = "pair"  # the coil system of all three axes (cage.coilsystems)
 
     def as_dict(self) -> dict:
         return {
@@ -63,6 +65,7 @@ class CompareRow:
             "copper_mass_kg": self.copper_mass_kg, "fits_room": self.fits_room,
             "meets_requirement": self.meets_requirement,
             "shapes": dict(zip(AXES, self.shapes)) if self.shapes else None,
+            "system": self.system,
         }
 
 
@@ -100,7 +103,22 @@ def _size_from_outer(shape: str, outer_m: float) -> float:
 
 
 def compare_sizes(inp: PlanInputs, sizes_m, progress=None) -> list[CompareRow]:
-    """The best cage at each outer size; ``progress`` (callable, optional) is called once per size."""
+    """The best cage at each outer size and allowed coil system (``inp.systems``): pairs first,
+    then each other system (``cage.systemplan.compare_system_rows``), sizes ascending within
+    each; ``progress`` (callable, optional) is called once per size and system."""
+    systems = tuple(getattr(inp, "systems", ("pair",)))
+    rows = _compare_pairs(inp, sizes_m, progress) if "pair" in systems else []
+    if any(s != "pair" for s in systems):
+        from cage.coilsystems import systems_for_shape
+
+        for system in systems:
+            if system != "pair" and any(system in systems_for_shape(sh) for sh in inp.shapes):
+                rows += compare_system_rows(inp, sizes_m, system, progress)
+    return rows
+
+
+def _compare_pairs(inp: PlanInputs, sizes_m, progress=None) -> list[CompareRow]:
+    """The best cage of pairs at each outer size."""
     from cage.uniformity import largest_uniform_cube_side_m
 
     rows = []
@@ -161,6 +179,74 @@ def compare_sizes(inp: PlanInputs, sizes_m, progress=None) -> list[CompareRow]:
                 uniform_cube_m=cube, total_power_W=power, copper_mass_kg=mass, fits_room=layout.fits_room,
                 meets_requirement=meets and layout.fits_room,
             ))
+        if progress is not None:
+            progress(outer)
+    return rows
+
+
+def compare_system_rows(inp, sizes_m, system: str, progress=None) -> list:
+    """``compare_sizes`` for cages whose three axes are all ``system`` (three- or
+    four-coil): at each outer size (side of the outermost squares, or diameter of the outermost
+    largest circle) each order of the axes and each shape the system has, the outermost axis takes
+    that size and each axis further in the largest size no wider than the one outside it that
+    clears every coil outside it; windings by ``winding_for_axis``; the best by the objective,
+    preferring cages that fit the room and meet the uniformity. Rows carry ``system``."""
+    from cage.coilaxis import AxisCage
+    from cage.coillayout import check_axes_layout
+    from cage.coilsystems import system_axis, systems_for_shape
+    from cage.systemplan import largest_nesting_axis_size_m, largest_uniform_cube_m, winding_for_axis
+
+    shapes = [s for s in inp.shapes if system in systems_for_shape(s)]
+    orders = [inp.axis_order] if inp.axis_order else list(itertools.permutations(AXES))
+    windings: dict = {}
+    rows = []
+    for outer in sizes_m:
+        outer = float(outer)
+        best, reason = None, "" if shapes else f"no {system} system for the allowed shapes"
+        for order in orders:
+            for shape in shapes:
+                placed = [system_axis(order[0], shape, system, _size_from_outer(shape, outer))]
+                for axis in order[1:]:
+                    upper = _size_from_outer(shape, 2.0 * placed[-1].half_width_m)
+                    size = largest_nesting_axis_size_m(axis, shape, system, placed, inp.frame, upper)
+                    if size is None:
+                        break
+                    placed.append(system_axis(axis, shape, system, size))
+                if len(placed) < 3:
+                    reason = f"the frames do not nest at {outer:g} m"
+                    continue
+                by_axis = {p.axis: p for p in placed}
+                cage1 = AxisCage(by_axis["x"], by_axis["y"], by_axis["z"])
+                axes = []
+                for ax in cage1.axes:
+                    if ax not in windings:
+                        windings[ax] = winding_for_axis(ax, inp, ax.size_m)
+                    plan, why, _ = windings[ax]
+                    if plan is None:
+                        reason = why
+                        break
+                    axes.append(plan)
+                if len(axes) < 3:
+                    continue
+                layout = check_axes_layout(cage1, inp.frame, inp.room)
+                power = sum(a.drive.power_W for a in axes)
+                mass = sum(a.electrics.copper_mass_kg for a in axes)
+                score = {"power": power, "mass": mass, "size": float(np.prod(layout.envelope_m))}[inp.minimise]
+                meets = all(a.uniformity_reached <= inp.uniformity for a in axes) and layout.fits_room
+                key = (not layout.fits_room, not meets, score)
+                if best is None or key < best[0]:
+                    best = (key, shape, order, cage1, axes, layout, power, mass, meets)
+        if best is None:
+            rows.append(CompareRow(outer_size_m=outer, feasible=False, reason=reason or "no candidate",
+                                   system=system))
+        else:
+            _, shape, order, cage1, axes, layout, power, mass, meets = best
+            cube = min(largest_uniform_cube_m(ax, inp.uniformity) for ax in cage1.axes)
+            rows.append(CompareRow(
+                outer_size_m=outer, feasible=True, shape=shape, order=tuple(order),
+                shapes=tuple(ax.shape for ax in cage1.axes), sizes_m=tuple(ax.size_m for ax in cage1.axes),
+                envelope_m=layout.envelope_m, uniform_cube_m=cube, total_power_W=power, copper_mass_kg=mass,
+                fits_room=layout.fits_room, meets_requirement=meets, system=system))
         if progress is not None:
             progress(outer)
     return rows

@@ -4,12 +4,16 @@ from __future__ import annotations
 
 def design_table(plan, inp, packs=()) -> str:
     """The per-axis summary of ``cage design``; ``packs``: optional winding-pack differences."""
-    rows = [
-        ("shape", lambda a: a.pair.shape, ""),
+    from cage.systemplan import axis_turns_text, outer_spacing_m
+
+    multi = any(a.pair is None for a in plan.axes)
+    rows = [("coil system", lambda a: a.geometry.system if a.pair is None else "pair", "")] if multi else []
+    rows += [
+        ("shape", lambda a: a.geometry.shape, ""),
         ("side (square) or diameter (round)",
-         lambda a: f"{a.pair.size_m * (1 if a.pair.shape == 'square' else 2):.3f}", "m"),
-        ("spacing", lambda a: f"{a.pair.spacing_m:.3f}", "m"),
-        ("turns per coil", lambda a: f"{a.pair.turns}", ""),
+         lambda a: f"{a.geometry.size_m * (1 if a.geometry.shape == 'square' else 2):.3f}", "m"),
+        ("spacing" + (" (outermost coils)" if multi else ""), lambda a: f"{outer_spacing_m(a.geometry):.3f}", "m"),
+        ("turns per coil", lambda a: axis_turns_text(a.geometry), ""),
         ("wire", lambda a: a.wire, ""),
         ("resistance at 20 C", lambda a: f"{a.electrics.resistance_20C_ohm:.3f}", "ohm"),
         ("resistance hot", lambda a: f"{a.electrics.resistance_hot_ohm:.3f}", "ohm"),
@@ -53,6 +57,9 @@ def design_table(plan, inp, packs=()) -> str:
         unif = ", ".join(f"{a} {d.box_deviation_pack * 100:.4f} %" for a, d in zip("xyz", packs))
         lines.append(f"Winding pack vs one filament: centre field differs by {centre}; "
                      f"uniformity with the pack {unif}")
+    from cage.systemplan import build_tolerance_lines
+
+    lines += build_tolerance_lines(plan, inp)
     return "\n".join(lines)
 
 

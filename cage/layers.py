@@ -14,7 +14,7 @@ LAYERS: tuple[tuple[str, tuple[str, ...]], ...] = (
         "electrical", "supplies", "site", "orbit", "attitude", "fieldrate", "layers",
     )),
     ("planning", (
-        "channel", "layout", "coillayout", "axissizing", "design", "planinputs", "uniformsize", "winding", "optimise", "compare", "tolerance", "buildyield", "circuitparts", "buildsheet",
+        "channel", "layout", "coillayout", "axissizing", "design", "planinputs", "uniformsize", "winding", "pairplan", "systemplan", "optimise", "compare", "tolerance", "buildyield", "circuitparts", "buildsheet",
     )),
     ("operation", (
         "ambient", "reuse", "provenance", "setpoints", "calibrate", "sequence", "errorbudget", "gradient",

@@ -28,6 +28,7 @@ MAX_SIZE_M = 50.0
 # which can move the deviation by about that much of itself.
 UNIFORMITY_MARGIN = 0.99
 REFINED_CANDIDATES = 3
+PACK_GRID_COILS = 7  # points per test-box edge for the pack difference of three- and four-coil axes
 MAX_STEP_UPS = 12  # one-more-turn sizes tried per wire and axis
 INFLATIONS = ((1.03, 1.0), (1.06, 1.0), (1.1, 1.0), (1.15, 1.0), (1.0, 1.04), (1.0, 1.08), (1.06, 1.04),
               (1.1, 1.08))
@@ -57,6 +58,7 @@ class PlanInputs:
     spacing: str = "flat"
     minimise: str = "power"
     max_field_step_nT: float | None = None
+    systems: tuple[str, ...] = ("pair",)  # coil systems allowed per axis (cage.coilsystems.SYSTEMS)
 
     @property
     def needed_field_nT(self) -> np.ndarray:
@@ -65,9 +67,12 @@ class PlanInputs:
 
 @dataclass(frozen=True)
 class AxisPlan:
-    """One axis of a planned cage at its full-range current."""
+    """One axis of a planned cage at its full-range current.
 
-    pair: CoilPair
+    pair: the winding's pair, or None when the axis is another coil system; coil_axis: then its
+    coils (``cage.coilaxis.CoilAxis``, winding centrelines; cage.systemplan)."""
+
+    pair: CoilPair | None
     wire: str
     electrics: object  # cage.electrical.AxisElectrics at the full-range current
     supply: Supply
@@ -79,6 +84,16 @@ class AxisPlan:
     uniformity_reached: float
     min_uniform_size_m: float  # smallest frame-line size meeting the tolerance with the thinnest pack
     frame_pair: CoilPair | None = None  # the frame line (cage.channel); pair is the winding's mean line
+    coil_axis: object | None = None  # cage.coilaxis.CoilAxis when the axis is not a pair
+
+    @property
+    def axis_name(self) -> str:
+        return self.pair.axis if self.pair is not None else self.coil_axis.axis
+
+    @property
+    def geometry(self):
+        """The pair, or the coils of any other system (for ``electrical.electrics_of`` and the field)."""
+        return self.pair if self.pair is not None else self.coil_axis
 
 
 @dataclass(frozen=True)
@@ -104,6 +119,13 @@ class Plan:
         """The frame lines the layout's frame solids are built on (cage.channel)."""
         return CoilCage(*(a.frame_pair or a.pair for a in self.axes))
 
+    @property
+    def axis_cage(self):
+        """Every coil of the three axes (``cage.coilaxis.AxisCage``), pairs or not."""
+        from cage.coilaxis import AxisCage, axis_from_pair
+
+        return AxisCage(*(a.coil_axis if a.pair is None else axis_from_pair(a.pair) for a in self.axes))
+
     def axis(self, name: str) -> AxisPlan:
         return self.axes[AXES.index(name)]
 
@@ -111,7 +133,8 @@ class Plan:
 # ----------------------------------------------------------------------------- inputs
 
 def plan_inputs_from_site(site, ambient_cage_nT, *, shape: str | None = None, minimise: str = "power",
-                          spacing: str = "flat", max_field_step_nT: float | None = None) -> PlanInputs:
+                          spacing: str = "flat", max_field_step_nT: float | None = None,
+                          systems: str | None = None) -> PlanInputs:
     """Planner inputs from a :class:`cage.sitefile.Site` and the ambient field in force (cage frame, nT)."""
     from cage.wires import wire_from_name
 
@@ -143,6 +166,12 @@ def plan_inputs_from_site(site, ambient_cage_nT, *, shape: str | None = None, mi
         raise InputError(f"--max-field-step-nT must be a positive number, got {max_field_step_nT!r}")
     if max_field_step_nT is None:
         max_field_step_nT = getattr(req, "max_field_step_nT", None)
+    if systems is None:
+        chosen_systems = tuple(getattr(req, "systems", ("pair",)))
+    else:
+        from cage.coilsystems import parse_systems
+
+        chosen_systems = parse_systems(systems, "--system")
     coil = site.coil
     return PlanInputs(
         test_volume_m=tuple(req.test_volume_m),
@@ -161,6 +190,7 @@ def plan_inputs_from_site(site, ambient_cage_nT, *, shape: str | None = None, mi
         spacing=spacing,
         minimise=minimise,
         max_field_step_nT=max_field_step_nT,
+        systems=chosen_systems,
     )
 
 

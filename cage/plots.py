@@ -17,7 +17,7 @@ from cage.roomfigure import (  # noqa: F401
     _CURVE_T, _band_patch, _draw_pair, _info_panel, _legend_panel, _north_arrow, _project, _rect,
     cage_in_room_figure)
 from cage.comparefigure import (  # noqa: F401
-    _compare_marks, _num_or_nan, compare_figure)
+    SYSTEM_LINESTYLES, SYSTEM_MARKERS, _compare_marks, _num_or_nan, compare_figure)
 from cage.setpointfigures import (  # noqa: F401
     _PLOT_LIMITS, _axis_limit, _bipolar, _mark_beyond, _row_value, sequence_figure, setpoints_figure)
 

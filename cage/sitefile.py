@@ -36,6 +36,7 @@ MIN_RESOLUTION_A = 1e-9  # no supply sets current finer than a nanoampere
 TEMPERATURE_RANGE_C = (-50.0, 250.0)  # winding temperatures; room air: cage.thermal.AMBIENT_RANGE_C
 
 
+from cage.coilsystems import parse_systems  # noqa: F401  (read here; lives with the systems)
 from cage.site import (CoilSettings, Location, Measured, Orientation, Requirement, Room,  # noqa: F401
                        Site)
 
@@ -45,7 +46,7 @@ _TABLE_KEYS = {
     "location": ("latitude_deg", "longitude_deg", "altitude_m"),
     "orientation": ("heading_deg", "heading_reference"),
     "room": ("length_m", "width_m", "height_m", "clearance_m"),
-    "requirement": ("test_volume_m", "uniformity", "extra_field_uT", "shape", "max_field_step_nT"),
+    "requirement": ("test_volume_m", "uniformity", "extra_field_uT", "shape", "max_field_step_nT", "systems"),
     "coil": (
         "frame_width_m",
         "frame_depth_m",
@@ -60,6 +61,12 @@ _TABLE_KEYS = {
                "temperature_coefficient_ppm_per_K", "drift_ppm_per_hour", "noise_ppm"),
     "measured": ("field_nT", "note", "points_m", "fields_nT", "date"),
 }
+
+
+def _systems(r, req_t: dict) -> tuple[str, ...]:
+    if "systems" not in req_t:
+        return Requirement.systems
+    return parse_systems(req_t["systems"], f"{r.where}: requirement.systems")
 
 
 class _Reader:
@@ -273,6 +280,7 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
         shape=r.text(req_t, "shape", "requirement.", default=Requirement.shape, choices=("square", "round", "either")),
         max_field_step_nT=(r.number(req_t, "max_field_step_nT", "requirement.", positive=True, lo=1e-6, hi=1e9)
                            if "max_field_step_nT" in req_t else None),
+        systems=_systems(r, req_t),
     )
     for i, v in enumerate(requirement.test_volume_m):
         if v < MIN_TEST_VOLUME_SIDE_M:

@@ -53,6 +53,21 @@ def _wire_label(inp: PlanInputs) -> str:
     return f"{inp.frame.width_m * 1000:g} x {inp.frame.depth_m * 1000:g} mm frame channel"
 
 
+def fewest_feasible(evaluate, lo: int, hi: int, at_hi):
+    """Bisection for the fewest turns (or turns multiplier) in (lo, hi] whose ``evaluate(n)`` is
+    feasible (its item 4 true), given ``at_hi = evaluate(hi)`` feasible: voltage and temperature
+    fall as turns rise, so feasibility is monotone. Returns that evaluation."""
+    chosen = at_hi
+    while hi - lo > 1:
+        mid = (lo + hi) // 2
+        trial = evaluate(mid)
+        if trial[4]:
+            hi, chosen = mid, trial
+        else:
+            lo = mid
+    return chosen
+
+
 def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_size: float) -> _WindingResult:
     """Best wire and turns for one axis whose frame line is ``geometry`` (shape, size, spacing;
     see module docstring). The winding sits on the channel floor (``cage.channel``): its mean
@@ -158,15 +173,7 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
             miss(badness, text)
             continue
         if inp.minimise == "mass":
-            lo, hi = n_cur - 1, n_hi  # hi feasible; find the fewest feasible turns
-            chosen = top
-            while hi - lo > 1:
-                mid = (lo + hi) // 2
-                trial = evaluate(mid)
-                if trial[4]:
-                    hi, chosen = mid, trial
-                else:
-                    lo = mid
+            chosen = fewest_feasible(evaluate, n_cur - 1, n_hi, top)  # hi feasible; the fewest feasible turns
         else:
             chosen = top
         pair, current, el, drive, _ = chosen

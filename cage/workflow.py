@@ -177,7 +177,8 @@ def design_cautions(plan) -> list[str]:
     return out
 
 
-def plan_design(site, shape=None, minimise="power", spacing="flat", max_field_step_nT=None) -> PlannedDesign:
+def plan_design(site, shape=None, minimise="power", spacing="flat", max_field_step_nT=None,
+                system=None) -> PlannedDesign:
     """Plan the cage for a site's room, requirement and supplies; the design carries its provenance."""
     from cage.ambient import site_ambient
     from cage.optimise import design_from_plan, plan_cage, plan_inputs_from_site
@@ -187,7 +188,7 @@ def plan_design(site, shape=None, minimise="power", spacing="flat", max_field_st
         raise InputError(f"{site.source}: no [room] table; the planner needs the room the cage must fit")
     amb = site_ambient(site)
     inp = plan_inputs_from_site(site, amb.in_force_cage_nT, shape=shape, minimise=minimise, spacing=spacing,
-                                max_field_step_nT=max_field_step_nT)
+                                max_field_step_nT=max_field_step_nT, systems=system)
     plan = plan_cage(inp)
     cautions = design_cautions(plan)
     design_obj = design_from_plan(plan, inp, site, amb)
@@ -195,7 +196,7 @@ def plan_design(site, shape=None, minimise="power", spacing="flat", max_field_st
     return PlannedDesign(amb, inp, plan, design_obj, tuple(cautions))
 
 
-def compare_inputs(site, shape=None, minimise="power", max_field_step_nT=None):
+def compare_inputs(site, shape=None, minimise="power", max_field_step_nT=None, system=None):
     """(ambient, planner inputs, room's smallest inner side m) for comparing outer sizes at a site."""
     from cage.ambient import site_ambient
     from cage.layout import room_inner_m
@@ -205,7 +206,7 @@ def compare_inputs(site, shape=None, minimise="power", max_field_step_nT=None):
         raise InputError(f"{site.source}: no [room] table; compare needs the room the cage must fit")
     amb = site_ambient(site)
     inp = plan_inputs_from_site(site, amb.in_force_cage_nT, shape=shape, minimise=minimise,
-                                max_field_step_nT=max_field_step_nT)
+                                max_field_step_nT=max_field_step_nT, systems=system)
     return amb, inp, float(min(room_inner_m(site.room)))
 
 
@@ -336,11 +337,11 @@ class PlanRun:
         return list(self.planned.cautions) + list(self.table.warnings)
 
 
-def plan_run(site, shape=None, minimise="power", max_field_step_nT=None, targets=()) -> PlanRun:
+def plan_run(site, shape=None, minimise="power", max_field_step_nT=None, targets=(), system=None) -> PlanRun:
     """Field, design and setpoint table of a site: the main job, in one pass."""
     from cage.provenance import design_id
 
-    planned = plan_design(site, shape, minimise, "flat", max_field_step_nT)
+    planned = plan_design(site, shape, minimise, "flat", max_field_step_nT, system)
     _, table = build_setpoints(planned.design, site, targets=targets)
     field_doc = field_summary(site, planned.amb, design_id(planned.design))
     return PlanRun(planned, table, field_doc)
