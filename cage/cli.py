@@ -253,6 +253,8 @@ def field(
 
 SHAPE_HELP = "Coil shape on every axis: square, round or either (default: the site's requirement.shape)."
 MINIMISE_HELP = "What the planner minimises: power (at full range), mass (copper) or size (envelope volume)."
+SYSTEM_HELP = ("Coil systems allowed per axis, comma-separated: pair, three, four, four-equal (default: the "
+               "site's requirement.systems; pairs when not given).")
 
 CAUTION_HOT = ("caution: windings run hot at full range; check their temperature on the built coils and "
                "keep within the enamel and frame ratings")
@@ -260,7 +262,7 @@ CAUTION_VOLTAGE = ("caution: supply voltages above about 50 V DC need touch prot
                    "must follow local electrical codes and licensed practice")
 
 
-def _plan_from_site(site, shape, minimise, spacing, max_field_step_nT):
+def _plan_from_site(site, shape, minimise, spacing, max_field_step_nT, system=None):
     from cage.ambient import site_ambient
     from cage.optimise import plan_cage, plan_inputs_from_site
 
@@ -270,18 +272,22 @@ def _plan_from_site(site, shape, minimise, spacing, max_field_step_nT):
     for w in amb.warnings:
         _warn(w)
     inp = plan_inputs_from_site(site, amb.in_force_cage_nT, shape=shape, minimise=minimise, spacing=spacing,
-                                max_field_step_nT=max_field_step_nT)
+                                max_field_step_nT=max_field_step_nT, systems=system)
     return amb, inp, plan_cage(inp)
 
 
 def design_table(plan, inp, packs=()) -> str:
     """The per-axis summary of ``cage design``; ``packs``: optional winding-pack differences."""
-    rows = [
-        ("shape", lambda a: a.pair.shape, ""),
+    from cage.systemplan import axis_turns_text, outer_spacing_m
+
+    multi = any(a.pair is None for a in plan.axes)
+    rows = [("coil system", lambda a: a.geometry.system if a.pair is None else "pair", "")] if multi else []
+    rows += [
+        ("shape", lambda a: a.geometry.shape, ""),
         ("side (square) or diameter (round)",
-         lambda a: f"{a.pair.size_m * (1 if a.pair.shape == 'square' else 2):.3f}", "m"),
-        ("spacing", lambda a: f"{a.pair.spacing_m:.3f}", "m"),
-        ("turns per coil", lambda a: f"{a.pair.turns}", ""),
+         lambda a: f"{a.geometry.size_m * (1 if a.geometry.shape == 'square' else 2):.3f}", "m"),
+        ("spacing" + (" (outermost coils)" if multi else ""), lambda a: f"{outer_spacing_m(a.geometry):.3f}", "m"),
+        ("turns per coil", lambda a: axis_turns_text(a.geometry), ""),
         ("wire", lambda a: a.wire, ""),
         ("resistance at 20 C", lambda a: f"{a.electrics.resistance_20C_ohm:.3f}", "ohm"),
         ("resistance hot", lambda a: f"{a.electrics.resistance_hot_ohm:.3f}", "ohm"),
@@ -325,6 +331,9 @@ def design_table(plan, inp, packs=()) -> str:
         unif = ", ".join(f"{a} {d.box_deviation_pack * 100:.4f} %" for a, d in zip("xyz", packs))
         lines.append(f"Winding pack vs one filament: centre field differs by {centre}; "
                      f"uniformity with the pack {unif}")
+    from cage.systemplan import build_tolerance_lines
+
+    lines += build_tolerance_lines(plan, inp)
     return "\n".join(lines)
 
 
@@ -380,6 +389,7 @@ def design(
                                                           "free: spacing chosen for the test volume."),
     max_field_step_nT: Optional[float] = typer.Option(
         None, "--max-field-step-nT", help="Largest field step one supply current step may give (nT)."),
+    system: Optional[str] = typer.Option(None, "--system", help=SYSTEM_HELP),
 ):
     """Size a nested three-axis cage for the site's room, test volume, field range and supplies."""
     from cage import sitefile
@@ -388,7 +398,7 @@ def design(
 
     site = sitefile.load_site(site_file)
     _check_out(out, site_file)
-    amb, inp, plan = _plan_from_site(site, shape, minimise, spacing, max_field_step_nT)
+    amb, inp, plan = _plan_from_site(site, shape, minimise, spacing, max_field_step_nT, system)
     design_obj = _stamped_design(design_from_plan(plan, inp, site, amb), site, amb, _design_cautions(plan, inp))
     save_design(out, design_obj)
     _say(f"Design for {site.name} ({amb.source} field, {amb.earth.date.isoformat()}); "
@@ -411,6 +421,7 @@ def compare(
     plot: Optional[Path] = typer.Option(None, "--plot", help="Write the comparison figure (PNG)."),
     max_field_step_nT: Optional[float] = typer.Option(
         None, "--max-field-step-nT", help="Largest field step one supply current step may give (nT)."),
+    system: Optional[str] = typer.Option(None, "--system", help=SYSTEM_HELP),
 ):
     """The best cage at each outer size: envelope, uniform cube, power, copper, fit in the room."""
     from cage import sitefile
@@ -427,7 +438,7 @@ def compare(
     for w in amb.warnings:
         _warn(w)
     inp = plan_inputs_from_site(site, amb.in_force_cage_nT, shape=shape, minimise=minimise,
-                                max_field_step_nT=max_field_step_nT)
+                                max_field_step_nT=max_field_step_nT, systems=system)
     if sys.stderr.isatty() and not as_json:
         with typer.progressbar(length=len(values), label="sizes", file=sys.stderr) as bar:
             rows = compare_sizes(inp, values, progress=lambda _s: bar.update(1))
@@ -452,17 +463,20 @@ def compare(
         return
     _say(f"Cage sizes for {site.name}: test volume {' x '.join(f'{v:g}' for v in inp.test_volume_m)} m "
          f"at {inp.uniformity * 100:g} %")
-    _say(f"{'outer (m)':>10} {'shape':>7} {'envelope x, y, z (m)':>22} {'cube (m)':>9} {'power (W)':>10} "
+    multi = any(r.system != "pair" for r in rows)
+    sys_head = f" {'system':>10}" if multi else ""
+    _say(f"{'outer (m)':>10}{sys_head} {'shape':>7} {'envelope x, y, z (m)':>22} {'cube (m)':>9} {'power (W)':>10} "
          f"{'copper (kg)':>12}  fits room")
     for r in rows:
+        sys_cell = f" {r.system:>10}" if multi else ""
         if not r.feasible:
-            _say(f"{r.outer_size_m:>10.2f}  none: {r.reason}")
+            _say(f"{r.outer_size_m:>10.2f}{sys_cell}  none: {r.reason}")
             continue
         env = ", ".join(f"{v:.2f}" for v in r.envelope_m)
         mark = "yes" if r.fits_room else "no"
         if r.meets_requirement:
             mark += " (meets requirement)"
-        _say(f"{r.outer_size_m:>10.2f} {r.shape:>7} {env:>22} {r.uniform_cube_m:>9.3f} {r.total_power_W:>10.1f} "
+        _say(f"{r.outer_size_m:>10.2f}{sys_cell} {r.shape:>7} {env:>22} {r.uniform_cube_m:>9.3f} {r.total_power_W:>10.1f} "
              f"{r.copper_mass_kg:>12.1f}  {mark}")
     if plot is not None:
         _say(f"Wrote {plot}")
@@ -891,6 +905,7 @@ def plan(
     targets: Optional[Path] = typer.Option(None, "--targets", help="CSV of extra targets: label,x_uT,y_uT,z_uT[,frame]."),
     max_field_step_nT: Optional[float] = typer.Option(
         None, "--max-field-step-nT", help="Largest field step one supply current step may give (nT)."),
+    system: Optional[str] = typer.Option(None, "--system", help=SYSTEM_HELP),
 ):
     """The main job: field, design, setpoints (CSV, JSON, SCPI), figures and report, into one folder."""
     from cage import sitefile
@@ -903,7 +918,7 @@ def plan(
 
     refuse_overwriting_inputs(out, [p for p in (site_file, targets) if p is not None], folder=True)
     check_replaceable(out, ())
-    amb, inp, plan_obj = _plan_from_site(site, shape, minimise, "flat", max_field_step_nT)
+    amb, inp, plan_obj = _plan_from_site(site, shape, minimise, "flat", max_field_step_nT, system)
     design_obj = _stamped_design(design_from_plan(plan_obj, inp, site, amb), site, amb,
                                  _design_cautions(plan_obj, inp))
     _, table = build_setpoints(design_obj, site, targets_file=targets)

@@ -49,6 +49,7 @@ class CompareRow:
     fits_room: bool = False
     meets_requirement: bool = False
     shapes: tuple[str, ...] = ()  # per axis x, y, z
+    system: str = "pair"  # the coil system of all three axes (cage.coilsystems)
 
     def as_dict(self) -> dict:
         return {
@@ -63,6 +64,7 @@ class CompareRow:
             "copper_mass_kg": self.copper_mass_kg, "fits_room": self.fits_room,
             "meets_requirement": self.meets_requirement,
             "shapes": dict(zip(AXES, self.shapes)) if self.shapes else None,
+            "system": self.system,
         }
 
 
@@ -100,7 +102,23 @@ def _size_from_outer(shape: str, outer_m: float) -> float:
 
 
 def compare_sizes(inp: PlanInputs, sizes_m, progress=None) -> list[CompareRow]:
-    """The best cage at each outer size; ``progress`` (callable, optional) is called once per size."""
+    """The best cage at each outer size and allowed coil system (``inp.systems``): pairs first,
+    then each other system (``cage.systemplan.compare_system_rows``), sizes ascending within
+    each; ``progress`` (callable, optional) is called once per size and system."""
+    systems = tuple(getattr(inp, "systems", ("pair",)))
+    rows = _compare_pairs(inp, sizes_m, progress) if "pair" in systems else []
+    if any(s != "pair" for s in systems):
+        from cage.coilsystems import systems_for_shape
+        from cage.systemplan import compare_system_rows
+
+        for system in systems:
+            if system != "pair" and any(system in systems_for_shape(sh) for sh in inp.shapes):
+                rows += compare_system_rows(inp, sizes_m, system, progress)
+    return rows
+
+
+def _compare_pairs(inp: PlanInputs, sizes_m, progress=None) -> list[CompareRow]:
+    """The best cage of pairs at each outer size."""
     from cage.uniformity import largest_uniform_cube_side_m
 
     rows = []

@@ -305,10 +305,13 @@ def largest_nesting_size_m(axis: str, shape: str, outer, frame: FrameSpec, upper
     ``outer``, by bisection (clearance falls as the inner pair grows); the size returned
     always clears. None if even a pair of 5 % of upper_m does not clear."""
     ratio = flat_spacing_m(shape, 1.0)
+    return largest_clear_size_m(lambda size: clears(CoilPair(axis, shape, size, ratio * size, 1), outer, frame),
+                                upper_m, tolerance_m)
 
-    def ok(size: float) -> bool:
-        return clears(CoilPair(axis, shape, size, ratio * size, 1), outer, frame)
 
+def largest_clear_size_m(ok, upper_m: float, tolerance_m: float = 5e-4) -> float | None:
+    """Largest size <= upper_m where ``ok(size)`` (an inner coil set clears the ones outside it)
+    holds, by bisection; None if it fails even at 5 % of upper_m."""
     if ok(upper_m):
         return float(upper_m)
     lo = 0.05 * upper_m

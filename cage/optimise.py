@@ -67,6 +67,7 @@ MAX_SIZE_M = 50.0
 # which can move the deviation by about that much of itself.
 UNIFORMITY_MARGIN = 0.99
 REFINED_CANDIDATES = 3
+PACK_GRID_COILS = 7  # points per test-box edge for the pack difference of three- and four-coil axes
 MAX_STEP_UPS = 12  # one-more-turn sizes tried per wire and axis
 INFLATIONS = ((1.03, 1.0), (1.06, 1.0), (1.1, 1.0), (1.15, 1.0), (1.0, 1.04), (1.0, 1.08), (1.06, 1.04),
               (1.1, 1.08))
@@ -96,6 +97,7 @@ class PlanInputs:
     spacing: str = "flat"
     minimise: str = "power"
     max_field_step_nT: float | None = None
+    systems: tuple[str, ...] = ("pair",)  # coil systems allowed per axis (cage.coilsystems.SYSTEMS)
 
     @property
     def needed_field_nT(self) -> np.ndarray:
@@ -104,9 +106,12 @@ class PlanInputs:
 
 @dataclass(frozen=True)
 class AxisPlan:
-    """One axis of a planned cage at its full-range current."""
+    """One axis of a planned cage at its full-range current.
 
-    pair: CoilPair
+    pair: the winding's pair, or None when the axis is another coil system; coil_axis: then its
+    coils (``cage.coilaxis.CoilAxis``, winding centrelines; cage.systemplan)."""
+
+    pair: CoilPair | None
     wire: str
     electrics: object  # cage.electrical.AxisElectrics at the full-range current
     supply: Supply
@@ -118,6 +123,16 @@ class AxisPlan:
     uniformity_reached: float
     min_uniform_size_m: float  # smallest frame-line size meeting the tolerance with the thinnest pack
     frame_pair: CoilPair | None = None  # the frame line (cage.channel); pair is the winding's mean line
+    coil_axis: object | None = None  # cage.coilaxis.CoilAxis when the axis is not a pair
+
+    @property
+    def axis_name(self) -> str:
+        return self.pair.axis if self.pair is not None else self.coil_axis.axis
+
+    @property
+    def geometry(self):
+        """The pair, or the coils of any other system (for ``electrical.electrics_of`` and the field)."""
+        return self.pair if self.pair is not None else self.coil_axis
 
 
 @dataclass(frozen=True)
@@ -143,6 +158,13 @@ class Plan:
         """The frame lines the layout's frame solids are built on (cage.channel)."""
         return CoilCage(*(a.frame_pair or a.pair for a in self.axes))
 
+    @property
+    def axis_cage(self):
+        """Every coil of the three axes (``cage.coilaxis.AxisCage``), pairs or not."""
+        from cage.coilaxis import AxisCage, axis_from_pair
+
+        return AxisCage(*(a.coil_axis if a.pair is None else axis_from_pair(a.pair) for a in self.axes))
+
     def axis(self, name: str) -> AxisPlan:
         return self.axes[AXES.index(name)]
 
@@ -150,7 +172,8 @@ class Plan:
 # ----------------------------------------------------------------------------- inputs
 
 def plan_inputs_from_site(site, ambient_cage_nT, *, shape: str | None = None, minimise: str = "power",
-                          spacing: str = "flat", max_field_step_nT: float | None = None) -> PlanInputs:
+                          spacing: str = "flat", max_field_step_nT: float | None = None,
+                          systems: str | None = None) -> PlanInputs:
     """Planner inputs from a :class:`cage.sitefile.Site` and the ambient field in force (cage frame, nT)."""
     from cage.wires import wire_from_name
 
@@ -182,6 +205,12 @@ def plan_inputs_from_site(site, ambient_cage_nT, *, shape: str | None = None, mi
         raise InputError(f"--max-field-step-nT must be a positive number, got {max_field_step_nT!r}")
     if max_field_step_nT is None:
         max_field_step_nT = getattr(req, "max_field_step_nT", None)
+    if systems is None:
+        chosen_systems = tuple(getattr(req, "systems", ("pair",)))
+    else:
+        from cage.sitefile import parse_systems
+
+        chosen_systems = parse_systems(systems, "--system")
     coil = site.coil
     return PlanInputs(
         test_volume_m=tuple(req.test_volume_m),
@@ -200,6 +229,7 @@ def plan_inputs_from_site(site, ambient_cage_nT, *, shape: str | None = None, mi
         spacing=spacing,
         minimise=minimise,
         max_field_step_nT=max_field_step_nT,
+        systems=chosen_systems,
     )
 
 
@@ -358,6 +388,21 @@ def _wire_label(inp: PlanInputs) -> str:
     return f"{inp.frame.width_m * 1000:g} x {inp.frame.depth_m * 1000:g} mm frame channel"
 
 
+def fewest_feasible(evaluate, lo: int, hi: int, at_hi):
+    """Bisection for the fewest turns (or turns multiplier) in (lo, hi] whose ``evaluate(n)`` is
+    feasible (its item 4 true), given ``at_hi = evaluate(hi)`` feasible: voltage and temperature
+    fall as turns rise, so feasibility is monotone. Returns that evaluation."""
+    chosen = at_hi
+    while hi - lo > 1:
+        mid = (lo + hi) // 2
+        trial = evaluate(mid)
+        if trial[4]:
+            hi, chosen = mid, trial
+        else:
+            lo = mid
+    return chosen
+
+
 def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_size: float) -> _WindingResult:
     """Best wire and turns for one axis whose frame line is ``geometry`` (shape, size, spacing;
     see module docstring). The winding sits on the channel floor (``cage.channel``): its mean
@@ -463,15 +508,7 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
             miss(badness, text)
             continue
         if inp.minimise == "mass":
-            lo, hi = n_cur - 1, n_hi  # hi feasible; find the fewest feasible turns
-            chosen = top
-            while hi - lo > 1:
-                mid = (lo + hi) // 2
-                trial = evaluate(mid)
-                if trial[4]:
-                    hi, chosen = mid, trial
-                else:
-                    lo = mid
+            chosen = fewest_feasible(evaluate, n_cur - 1, n_hi, top)  # hi feasible; the fewest feasible turns
         else:
             chosen = top
         pair, current, el, drive, _ = chosen
@@ -588,7 +625,18 @@ def axis_size_options(axis: str, shape: str, lower_m: float, ratio: float, inp: 
 
 
 def plan_cage(inp: PlanInputs) -> Plan:
-    """The best cage for the inputs, or InfeasibleError naming the binding constraint."""
+    """The best cage for the inputs, or InfeasibleError naming the binding constraint. With coil
+    systems other than the pair allowed (``inp.systems``), ``cage.systemplan.plan_with_systems``."""
+    if tuple(inp.systems) != ("pair",):
+        from cage.systemplan import plan_with_systems
+
+        return plan_with_systems(inp)
+    return _plan_pairs(inp)
+
+
+def _plan_pairs(inp: PlanInputs, finish: bool = True) -> Plan:
+    """The best cage of three pairs (the method in the module docstring); ``finish=False``: without
+    the winding-pack differences, warnings and notes (``finish_plan``)."""
     if inp.minimise not in OBJECTIVES:
         raise InputError(f"minimise must be one of {', '.join(OBJECTIVES)}, got {inp.minimise!r}")
     frame = inp.frame
@@ -755,9 +803,20 @@ def plan_cage(inp: PlanInputs) -> Plan:
     order, axes, layout, power, mass = best
     plan = Plan(axes=axes, layout=layout, order=tuple(order) if inp.axis_order else layout.order,
                 minimise=inp.minimise, spacing=inp.spacing, total_power_W=power, copper_mass_kg=mass)
+    return finish_plan(plan, inp) if finish else plan
+
+
+def finish_plan(plan: Plan, inp: PlanInputs) -> Plan:
+    """The plan with its winding-pack differences, warnings and notes."""
     packs = pack_differences(plan, inp)
-    return dataclasses.replace(plan, packs=packs, warnings=tuple(plan_warnings(axes, inp, packs)),
+    return dataclasses.replace(plan, packs=packs, warnings=tuple(plan_warnings(plan.axes, inp, packs)),
                                notes=tuple(plan_notes(plan, inp)))
+
+
+def _axis_name(a) -> str:
+    """The axis an AxisPlan-like record drives (its pair's, else its coils')."""
+    pair = getattr(a, "pair", None)
+    return pair.axis if pair is not None else a.coil_axis.axis
 
 
 def plan_notes(plan: Plan, inp: PlanInputs) -> list[str]:
@@ -769,7 +828,7 @@ def plan_notes(plan: Plan, inp: PlanInputs) -> list[str]:
     for a in plan.axes:
         share = a.full_current_A / a.supply.max_current_A
         if share < LARGE_SUPPLY_FRACTION:
-            out.append(f"axis {a.pair.axis}: the supply is much larger than needed: full range takes "
+            out.append(f"axis {_axis_name(a)}: the supply is much larger than needed: full range takes "
                        f"{a.full_current_A:.3g} A of its {a.supply.max_current_A:g} A ({share:.0%}); its "
                        f"{a.supply.resolution_A:g} A step gives a field step of {a.field_step_nT:.1f} nT "
                        f"(ask for a finer one with max_field_step_nT)")
@@ -780,13 +839,17 @@ def pack_differences(plan: Plan, inp: PlanInputs):
     """Per axis, how the field of the real winding pack (one filament per turn, on the wire's
     grid in the frame channel) differs from the N-turns-as-one-filament model the planner
     uses: at the centre and over the test volume (cage.coils.PackDifference)."""
+    from cage.axissizing import axis_pack_difference
     from cage.coils import FilamentPack, pack_vs_filament_difference
     from cage.wires import wire_from_name
 
     out = []
     for a in plan.axes:
         pack = FilamentPack(wire_from_name(a.wire).outer_diameter_m, inp.frame.width_m)
-        out.append(pack_vs_filament_difference(a.pair, pack, inp.test_volume_m))
+        if a.pair is None:
+            out.append(axis_pack_difference(a.coil_axis, pack, inp.test_volume_m, n_per_edge=PACK_GRID_COILS))
+        else:
+            out.append(pack_vs_filament_difference(a.pair, pack, inp.test_volume_m))
     return tuple(out)
 
 
@@ -796,20 +859,20 @@ def plan_warnings(axes, inp: PlanInputs, packs=()) -> list[str]:
     out = []
     for a, d in zip(axes, packs):
         if d.box_deviation_pack > inp.uniformity:
-            out.append(f"axis {a.pair.axis}: with the real winding pack the uniformity is "
+            out.append(f"axis {_axis_name(a)}: with the real winding pack the uniformity is "
                        f"{d.box_deviation_pack * 100:.4f} %, over the {inp.uniformity * 100:g} % asked")
     for a in axes:
         el = a.electrics
         if el.current_density_high:
-            out.append(f"axis {a.pair.axis}: current density {el.current_density_A_per_mm2:.1f} A/mm^2 at full range "
+            out.append(f"axis {_axis_name(a)}: current density {el.current_density_A_per_mm2:.1f} A/mm^2 at full range "
                        f"is above the common air-cooled limit of about 3 A/mm^2")
         if el.winding_temperature_C > inp.max_winding_temperature_C - 5.0:
-            out.append(f"axis {a.pair.axis}: the winding reaches {el.winding_temperature_C:.0f} C at full range, "
+            out.append(f"axis {_axis_name(a)}: the winding reaches {el.winding_temperature_C:.0f} C at full range, "
                        f"close to the {inp.max_winding_temperature_C:g} C limit; check it on the built coil")
         if abs(a.drive.voltage_V) > 50.0:
-            out.append(f"axis {a.pair.axis}: {abs(a.drive.voltage_V):.0f} V at full range; above about 50 V DC "
+            out.append(f"axis {_axis_name(a)}: {abs(a.drive.voltage_V):.0f} V at full range; above about 50 V DC "
                        f"touch protection is required by most electrical codes")
-    unipolar = [a.pair.axis for a in axes if not a.supply.bipolar]
+    unipolar = [_axis_name(a) for a in axes if not a.supply.bipolar]
     if unipolar:
         out.append(f"axis {', '.join(unipolar)}: unipolar supply; negative currents need a polarity switch "
                    f"(switch only at zero current: the coil's stored energy arcs otherwise)")
@@ -826,7 +889,7 @@ def design_from_plan(plan: Plan, inp: PlanInputs, site=None, ambient=None):
     for a in plan.axes:
         el = a.electrics
         axes.append(AxisDesign(
-            pair=a.pair, wire=a.wire,
+            pair=a.pair, coil_axis=a.coil_axis, wire=a.wire,
             resistance_20C_ohm=el.resistance_20C_ohm,
             resistance_hot_ohm=el.resistance_hot_ohm,
             inductance_H=el.inductance_H,
@@ -839,7 +902,7 @@ def design_from_plan(plan: Plan, inp: PlanInputs, site=None, ambient=None):
             lead_length_m=inp.lead_length_m if inp.lead_length_m > 0 else None,
             frame_width_m=inp.frame.width_m,
             frame_depth_m=inp.frame.depth_m,
-            frame_size_m=(a.frame_pair or a.pair).size_m,
+            frame_size_m=(a.frame_pair or a.pair or a.coil_axis).size_m,
         ))
     lay = plan.layout
     site_obj = None
@@ -875,6 +938,8 @@ def design_from_plan(plan: Plan, inp: PlanInputs, site=None, ambient=None):
     }
     if inp.max_field_step_nT is not None:
         requirement["max_field_step_nT"] = inp.max_field_step_nT
+    if tuple(inp.systems) != ("pair",):
+        requirement["systems"] = list(inp.systems)
     packs = plan.packs or pack_differences(plan, inp)
     layout = {
         "order_outermost_first": list(plan.order),

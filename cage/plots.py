@@ -649,6 +649,10 @@ def _num_or_nan(value) -> float:
     return v if math.isfinite(v) else math.nan
 
 
+SYSTEM_MARKERS = ("o", "^", "s", "D")
+SYSTEM_LINESTYLES = ("-", "-.", "--", ":")
+
+
 def compare_figure(rows, room_limit_m: float | None, tolerance: float,
                    required_cube_m: float | None = None) -> Figure:
     """Total power, copper mass and uniform cube edge against the cage's outer size.
@@ -673,6 +677,11 @@ def compare_figure(rows, room_limit_m: float | None, tolerance: float,
     cube = np.array([_num_or_nan(r.get("uniform_cube_m")) for r in data])
     mass = np.array([_num_or_nan(r.get("copper_mass_kg")) for r in data])
     limit = None if room_limit_m is None else float(room_limit_m)
+    # rows of several coil systems (cage.compare: "system"): one line per system, told apart by
+    # marker and line style
+    system_of = np.array([for_figure(str(r.get("system") or "pair")) for r in data])
+    systems = list(dict.fromkeys(system_of))
+    several = len(systems) > 1
 
     with matplotlib.rc_context(_RC):
         fig = _new_figure(FIG_WIDTH_IN, 5.6)
@@ -683,14 +692,17 @@ def compare_figure(rows, room_limit_m: float | None, tolerance: float,
         xlim = (lo - pad, max(hi, limit if limit is not None else hi) + pad)
 
         def series(ax, values, colour, marker, label, linestyle="-"):
-            ok = feasible & np.isfinite(values)
-            ax.plot(size[ok], values[ok], color=colour, linestyle=linestyle, linewidth=1.2,
-                    label=label, zorder=2)
-            inside, outside = ok & fits, ok & ~fits
-            ax.plot(size[inside], values[inside], linestyle="none", marker=marker, color=colour,
-                    markersize=5, zorder=3)
-            ax.plot(size[outside], values[outside], linestyle="none", marker=marker,
-                    markerfacecolor="white", markeredgecolor=colour, markersize=5, zorder=3)
+            for k, system in enumerate(systems):
+                ok = feasible & np.isfinite(values) & (system_of == system)
+                mk = marker if not several else SYSTEM_MARKERS[k % len(SYSTEM_MARKERS)]
+                ls = linestyle if not several else SYSTEM_LINESTYLES[k % len(SYSTEM_LINESTYLES)]
+                ax.plot(size[ok], values[ok], color=colour, linestyle=ls, linewidth=1.2,
+                        label=f"{label}, {system}" if several else label, zorder=2, gid=f"compare-{system}")
+                inside, outside = ok & fits, ok & ~fits
+                ax.plot(size[inside], values[inside], linestyle="none", marker=mk, color=colour,
+                        markersize=5, zorder=3)
+                ax.plot(size[outside], values[outside], linestyle="none", marker=mk,
+                        markerfacecolor="white", markeredgecolor=colour, markersize=5, zorder=3)
 
         series(ax_p, power, "#1f5fbf", "o", "total power (W)")
         series(ax_m, mass, "#8a5a00", "s", "copper mass (kg)", linestyle="--")

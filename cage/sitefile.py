@@ -73,6 +73,8 @@ class Requirement:
     uniformity: largest allowed |B(p) - B(0)| / |B(0)| over the box, each axis driven alone.
     extra_field_uT: field each axis must add beyond nulling its ambient component, both signs.
     shape: "square", "round" or "either".
+    systems: the coil systems the planner may use per axis (``cage.coilsystems.SYSTEMS``); pairs
+        only when not given (``systems = ["pair", "three", "four", "four-equal"]`` allows all).
     max_field_step_nT: largest field step one supply current step may give (a constraint on
         the planner only when given; otherwise the step that results is reported).
     """
@@ -82,6 +84,9 @@ class Requirement:
     extra_field_uT: tuple[float, float, float] = (100.0, 100.0, 100.0)
     shape: str = "either"
     max_field_step_nT: float | None = None
+    # Pairs only unless the site or --system asks for more: the figures and the HTML report of
+    # ``cage plan`` draw pairs only so far (issue 16, item 3).
+    systems: tuple[str, ...] = ("pair",)
 
 
 @dataclass(frozen=True)
@@ -140,7 +145,7 @@ _TABLE_KEYS = {
     "location": ("latitude_deg", "longitude_deg", "altitude_m"),
     "orientation": ("heading_deg", "heading_reference"),
     "room": ("length_m", "width_m", "height_m", "clearance_m"),
-    "requirement": ("test_volume_m", "uniformity", "extra_field_uT", "shape", "max_field_step_nT"),
+    "requirement": ("test_volume_m", "uniformity", "extra_field_uT", "shape", "max_field_step_nT", "systems"),
     "coil": (
         "frame_width_m",
         "frame_depth_m",
@@ -155,6 +160,31 @@ _TABLE_KEYS = {
                "temperature_coefficient_ppm_per_K", "drift_ppm_per_hour", "noise_ppm"),
     "measured": ("field_nT", "note", "points_m", "fields_nT", "date"),
 }
+
+
+def parse_systems(value, where: str) -> tuple[str, ...]:
+    """The coil systems named in ``value`` (a list of names, or one comma-separated text), checked
+    against ``cage.coilsystems.SYSTEMS``, in that order, without repeats; InputError naming ``where``."""
+    from cage.coilsystems import SYSTEMS
+
+    if isinstance(value, str):
+        names = [v.strip() for v in value.split(",")]
+    elif isinstance(value, (list, tuple)):
+        names = list(value)
+    else:
+        raise InputError(f"{where} must be a list of coil systems ({', '.join(SYSTEMS)}), got {_show(value)}")
+    if not names:
+        raise InputError(f"{where} must name at least one coil system ({', '.join(SYSTEMS)})")
+    for name in names:
+        if not isinstance(name, str) or name not in SYSTEMS:
+            raise InputError(f"{where}: unknown coil system {_show(name)}; known: {', '.join(SYSTEMS)}")
+    return tuple(s for s in SYSTEMS if s in names)
+
+
+def _systems(r, req_t: dict) -> tuple[str, ...]:
+    if "systems" not in req_t:
+        return Requirement.systems
+    return parse_systems(req_t["systems"], f"{r.where}: requirement.systems")
 
 
 class _Reader:
@@ -368,6 +398,7 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
         shape=r.text(req_t, "shape", "requirement.", default=Requirement.shape, choices=("square", "round", "either")),
         max_field_step_nT=(r.number(req_t, "max_field_step_nT", "requirement.", positive=True, lo=1e-6, hi=1e9)
                            if "max_field_step_nT" in req_t else None),
+        systems=_systems(r, req_t),
     )
     for i, v in enumerate(requirement.test_volume_m):
         if v < MIN_TEST_VOLUME_SIDE_M:

@@ -1,0 +1,406 @@
+"""The planner over coil systems: per axis a pair, or a three- or four-coil system (``cage.coilsystems``).
+
+Method (deterministic; exact field and the electrical model of every coil):
+
+1. The pair-only planner (``cage.optimise``, channel model of the windings, nesting refinements)
+   plans the cage of three pairs when pairs are allowed; its plan is the first candidate.
+2. Per axis, shape and allowed system, the smallest whole-turns system meeting
+   ``SYSTEM_UNIFORMITY_MARGIN`` x the tolerance over the test box (``cage.axissizing.smallest_uniform_axis``,
+   bisection on the exact field). Here a coil's size is its winding centreline and its frame is
+   centred on it (``cage.coillayout``).
+3. Per axis option, the winding (wire and turns multiplier k over the system's whole-turns pattern,
+   ``winding_for_axis``) at that smallest size gives a lower bound of the objective: power, copper
+   and envelope only grow as an axis grows. Combinations of one option per axis with at least one
+   axis not a pair are taken in the order of that bound; each is nested in every order of the axes
+   (outermost first; only the site's order when given): the innermost axis at its uniform size,
+   each axis further out at the smallest size clearing the frames of every coil inside it
+   (``cage.coillayout.smallest_nesting_axis_size_m``), then the room check on the real envelope
+   of every frame (``check_axes_layout``) and the windings at the nested sizes. The search stops
+   when the next bound is no better than the best plan found.
+4. Objective as the pair planner: least power (default), least copper, or least envelope volume;
+   ties go to the pair plan, then the smaller envelope, then the order of enumeration.
+
+Electrics: all coils of an axis in series, resistance from each coil's wire length, inductance
+with the mutual inductances between the axis's coils (``cage.electrical.coil_axis_electrics``).
+"""
+from __future__ import annotations
+
+import itertools
+import math
+
+import numpy as np
+
+from cage.coils import AXES
+from cage.errors import InfeasibleError
+
+# Multi-coil axes are sized for 90 % of the tolerance: the winding pack of three or four coils (each
+# coil's turns spread over its channel) differs from the one-filament model by a few 1e-4 of the
+# field, enough to push an axis sized at the pair planner's 99 % over the requirement.
+SYSTEM_UNIFORMITY_MARGIN = 0.9
+MAX_NESTINGS = 24  # combinations x orders nested at most (the bound usually stops far earlier)
+
+
+def _box_key(axis: str, box) -> tuple:
+    """The test box as seen from ``axis`` (its own side first): axes seeing the same box share sizes."""
+    a = AXES.index(axis)
+    others = tuple(sorted(float(box[i]) for i in range(3) if i != a))
+    return (float(box[a]),) + others
+
+
+def _centre_field_per_amp_T(ax) -> float:
+    from cage.coilaxis import axis_field_T
+
+    b = axis_field_T(ax, 1.0, np.zeros((1, 3)))
+    return float(abs(np.asarray(b).reshape(-1, 3)[0, AXES.index(ax.axis)]))
+
+
+def winding_for_axis(ax1, inp, uniform_size_m: float):
+    """Best wire and turns for the coils ``ax1`` (a ``CoilAxis`` with its system's whole-turns
+    pattern, multiplier 1) on axis ``ax1.axis``: each coil gets k x its pattern's turns.
+
+    Returns (AxisPlan or None, reason, badness). Turns: the field needed within the supply's
+    current sets the fewest k; the channel (``electrical.max_turns`` for the largest pattern
+    entry) and, when asked, the field step set the most. Power is least at the most turns,
+    copper at the fewest feasible (bisection: voltage and temperature fall as turns rise)."""
+    from cage.axissizing import axis_deviation
+    from cage.electrical import coil_axis_electrics, max_turns
+    from cage.optimise import AxisPlan, fewest_feasible
+    from cage.supplies import check_drive, field_step_nT
+
+    a = AXES.index(ax1.axis)
+    supply = inp.supplies[a]
+    need_T = float(inp.needed_field_nT[a]) * 1e-9
+    f1 = _centre_field_per_amp_T(ax1)
+    top_turns = max(int(c.turns) for c in ax1.coils)
+    what = f"the {ax1.axis} axis ({ax1.shape} {ax1.system}, {ax1.size_m:.3f} m)"
+    best, best_key, closest = None, None, None
+
+    def miss(badness, text):
+        nonlocal closest
+        if closest is None or badness < closest[0]:
+            closest = (badness, text)
+
+    for wire in inp.wires:
+        k_fit = max_turns(wire, inp.frame.width_m, inp.frame.depth_m) // top_turns
+        if k_fit < 1:
+            miss(math.inf, f"{what}: {top_turns} turns of {wire} do not fit the frame channel")
+            continue
+        k_cur = max(1, math.ceil(need_T / (f1 * supply.max_current_A) - 1e-9))
+        k_hi = k_fit
+        if inp.max_field_step_nT is not None:
+            k_hi = min(k_hi, math.floor(inp.max_field_step_nT * 1e-9 / (f1 * supply.resolution_A) * (1 + 1e-12)))
+        if k_cur > k_hi:
+            miss(k_cur / max(k_hi, 1), f"{what} needs {need_T * 1e6:.1f} uT: that takes at least {k_cur} x its "
+                                       f"turns pattern of {wire}, at most {k_hi} allowed")
+            continue
+
+        def evaluate(k):
+            ax = ax1.scaled_turns(k)
+            current = need_T / (f1 * k)
+            el = coil_axis_electrics(ax, wire, current, lead_length_m=inp.lead_length_m,
+                                     frame_width_m=inp.frame.width_m, frame_depth_m=inp.frame.depth_m,
+                                     ambient_temperature_C=inp.ambient_temperature_C)
+            drive = check_drive(supply, current, el.resistance_hot_ohm, el.lead_resistance_ambient_ohm)
+            ok = (drive.within_limits and el.temperature_converged
+                  and el.winding_temperature_C <= inp.max_winding_temperature_C)
+            return ax, current, el, drive, ok, k
+
+        chosen = evaluate(k_hi)
+        if not chosen[4]:
+            el, drive = chosen[2], chosen[3]
+            miss(max(abs(drive.voltage_V) / supply.max_voltage_V, 1.0),
+                 f"{what} needs {need_T * 1e6:.1f} uT; with {k_hi} x its turns pattern of {wire} that takes "
+                 f"{chosen[1]:.4g} A at {abs(drive.voltage_V):.3g} V with the winding at "
+                 f"{el.winding_temperature_C:.0f} C, beyond the supply's {supply.max_voltage_V:g} V or the "
+                 f"{inp.max_winding_temperature_C:g} C limit")
+            continue
+        if inp.minimise == "mass":
+            chosen = fewest_feasible(evaluate, k_cur - 1, k_hi, chosen)
+        ax, current, el, drive, _, k = chosen
+        key = (el.copper_mass_kg, drive.power_W) if inp.minimise == "mass" else (drive.power_W, el.copper_mass_kg)
+        if best_key is None or key < best_key:
+            fpa_nT = f1 * k * 1e9
+            best_key = key
+            best = AxisPlan(pair=None, coil_axis=ax, wire=wire, electrics=el, supply=supply, drive=drive,
+                            needed_field_nT=need_T * 1e9, full_current_A=current, field_per_amp_nT=fpa_nT,
+                            field_step_nT=field_step_nT(supply, fpa_nT),
+                            uniformity_reached=axis_deviation(ax, box_m=inp.test_volume_m),
+                            min_uniform_size_m=uniform_size_m)
+    if best is not None:
+        return best, "", 0.0
+    if closest is None:
+        return None, "no wires are allowed (coil.wires is empty)", math.inf
+    return None, closest[1], closest[0]
+
+
+def _objective(inp, power: float, mass: float, volume: float) -> tuple:
+    if inp.minimise == "power":
+        return (round(power, 9), round(volume, 12))
+    if inp.minimise == "mass":
+        return (round(mass, 9), round(volume, 12))
+    return (round(volume, 12), round(power, 9))
+
+
+def plan_with_systems(inp):
+    """The best cage for ``inp`` over the coil systems ``inp.systems`` (``cage.optimise.Plan``;
+    axes not pairs carry ``coil_axis``), or InfeasibleError naming the closest miss."""
+    from cage.axissizing import smallest_uniform_axis
+    from cage.coilaxis import AxisCage
+    from cage.coillayout import axis_extent_m, check_axes_layout, smallest_nesting_axis_size_m
+    from cage.coilsystems import system_axis, systems_for_shape
+    from cage.optimise import MAX_SIZE_M, Plan, _plan_pairs, finish_plan
+
+    frame = inp.frame
+    box = np.asarray(inp.test_volume_m, dtype=float)
+    best, best_key = None, None
+    errors = []
+    if "pair" in inp.systems:
+        try:
+            pair_plan = _plan_pairs(inp, finish=False)
+            best = pair_plan
+            best_key = _objective(inp, pair_plan.total_power_W, pair_plan.copper_mass_kg,
+                                  float(np.prod(pair_plan.layout.envelope_m)))
+        except InfeasibleError as exc:
+            errors.append((1.0, str(exc)))
+
+    # Per axis, the options (shape, system) and their smallest uniform axis.
+    tol = inp.uniformity * SYSTEM_UNIFORMITY_MARGIN
+    sizing_cache: dict = {}
+    options: dict[str, list] = {}
+    for axis in AXES:
+        options[axis] = []
+        for shape in inp.shapes:
+            for system in systems_for_shape(shape):
+                if system not in inp.systems:
+                    continue
+                key = (shape, system, _box_key(axis, box))
+                if key not in sizing_cache:
+                    try:
+                        sizing_cache[key] = smallest_uniform_axis(axis, shape, system, tol, box_m=box).size_m
+                    except InfeasibleError as exc:
+                        errors.append((math.inf, str(exc)))
+                        sizing_cache[key] = None
+                if sizing_cache[key] is not None:
+                    options[axis].append((shape, system, sizing_cache[key]))
+
+    winding_cache: dict = {}
+
+    def winding(axis, shape, system, size, uniform_size):
+        key = (axis, shape, system, round(size, 12))
+        if key not in winding_cache:
+            winding_cache[key] = winding_for_axis(system_axis(axis, shape, system, size), inp, uniform_size)
+        return winding_cache[key]
+
+    # Lower bound of the objective per combination, at each axis's own uniform size.
+    combos = []
+    for index, combo in enumerate(itertools.product(*(options[a] for a in AXES))):
+        if all(o[1] == "pair" for o in combo):
+            continue  # the pair planner's cage
+        plans = [winding(a, o[0], o[1], o[2], o[2]) for a, o in zip(AXES, combo)]
+        failed = [p for p in plans if p[0] is None]
+        if failed:
+            errors.extend((f[2], f[1]) for f in failed)
+            continue
+        ext = np.max([axis_extent_m(system_axis(a, o[0], o[1], o[2]), frame) for a, o in zip(AXES, combo)], axis=0)
+        bound = _objective(inp, sum(p[0].drive.power_W for p in plans),
+                           sum(p[0].electrics.copper_mass_kg for p in plans), float(np.prod(2.0 * ext)))
+        combos.append((bound, index, combo))
+    combos.sort(key=lambda c: (c[0], c[1]))
+
+    orders = [inp.axis_order] if inp.axis_order else list(itertools.permutations(AXES))
+    nest_cache: dict = {}
+    room_misses = []
+    nestings = 0
+    for bound, _, combo in combos:
+        if best_key is not None and bound >= best_key:
+            break
+        if nestings >= MAX_NESTINGS:
+            break
+        option_of = dict(zip(AXES, combo))
+        for order in orders:
+            nestings += 1
+            placed = []
+            for axis in reversed(order):  # innermost first
+                shape, system, size_u = option_of[axis]
+                lower = size_u
+                if inp.axis_order and placed:
+                    widest = max(p.half_width_m for p in placed)
+                    lower = max(lower, (2.0 * widest if shape == "square" else widest) * (1.0 + 1e-9))
+                key = (axis, shape, system, lower, tuple(placed))
+                if key not in nest_cache:
+                    try:
+                        nest_cache[key] = smallest_nesting_axis_size_m(axis, shape, system, tuple(placed), frame,
+                                                                       lower, upper_m=MAX_SIZE_M)
+                    except ValueError:
+                        nest_cache[key] = None
+                size = nest_cache[key]
+                if size is None:
+                    break
+                placed.append(system_axis(axis, shape, system, size))
+            if len(placed) < 3:
+                continue
+            by_axis = {p.axis: p for p in placed}
+            cage1 = AxisCage(by_axis["x"], by_axis["y"], by_axis["z"])
+            layout = check_axes_layout(cage1, frame, inp.room)
+            if not layout.fits_room:
+                over = np.array(layout.envelope_m) / np.array(layout.room_inner_m)
+                room_misses.append((float(np.max(over)), order, layout, combo))
+                continue
+            plans = []
+            for ax in cage1.axes:
+                shape, system, size_u = option_of[ax.axis]
+                p = winding(ax.axis, shape, system, ax.size_m, size_u)
+                if p[0] is None:
+                    errors.append((p[2], p[1]))
+                    break
+                if p[0].uniformity_reached > tol:
+                    break
+                plans.append(p[0])
+            if len(plans) < 3:
+                continue
+            power = sum(p.drive.power_W for p in plans)
+            mass = sum(p.electrics.copper_mass_kg for p in plans)
+            key = _objective(inp, power, mass, float(np.prod(layout.envelope_m)))
+            if best_key is None or key < best_key:
+                best_key = key
+                best = Plan(axes=tuple(plans), layout=layout,
+                            order=tuple(order) if inp.axis_order else layout.order,
+                            minimise=inp.minimise, spacing=inp.spacing, total_power_W=power, copper_mass_kg=mass)
+    if best is None:
+        if room_misses:
+            over, order, layout, combo = min(room_misses, key=lambda m: m[0])
+            env = " x ".join(f"{v:.2f}" for v in layout.envelope_m)
+            room = " x ".join(f"{v:.2f}" for v in layout.room_inner_m)
+            kinds = ", ".join(f"{a} {o[0]} {o[1]}" for a, o in zip(AXES, combo))
+            errors.append((over, f"the smallest nesting of the allowed coil systems ({kinds}; outermost "
+                                 f"{order[0]}) for a {' x '.join(f'{v:g}' for v in box)} m test volume at "
+                                 f"{inp.uniformity * 100:g} % needs an envelope of {env} m (x, y, z), while the "
+                                 f"room less its clearance allows {room} m"))
+        if not errors:
+            raise InfeasibleError(f"no coil system among {', '.join(inp.systems)} meets the requirement")
+        raise InfeasibleError(min(errors, key=lambda e: e[0])[1])
+    return finish_plan(best, inp)
+
+
+def outer_spacing_m(geometry) -> float:
+    """Distance between the outermost coil planes of a pair (its spacing) or any coil axis (m)."""
+    if hasattr(geometry, "spacing_m"):
+        return float(geometry.spacing_m)
+    return float(geometry.coils[-1].position_m - geometry.coils[0].position_m)
+
+
+def axis_turns_text(geometry) -> str:
+    """Turns per coil: one number for a pair, else every coil's along the axis ("26/11/11/26")."""
+    if hasattr(geometry, "turns"):
+        return f"{geometry.turns}"
+    return "/".join(str(int(c.turns)) for c in geometry.coils)
+
+
+def build_tolerance_lines(plan, inp) -> list[str]:
+    """The design summary's build tolerances: per axis, the largest single-coil position error and
+    tilt that keep the requirement over the test volume (exact field,
+    ``cage.axissizing.axis_sensitivity``), so a workshop can judge a pair against a four-coil system."""
+    from cage.axissizing import sensitivity_summary_lines
+
+    lines = sensitivity_summary_lines(plan.axis_cage.axes, inp.uniformity, box_m=inp.test_volume_m)
+    return ["Build tolerances (one coil at a time; survey the built cage):"] + [f"  {line}" for line in lines]
+
+
+# --------------------------------------------------------------------------- compare by system
+
+def largest_nesting_axis_size_m(axis: str, shape: str, system: str, outer, frame, upper_m: float,
+                                tolerance_m: float = 5e-4) -> float | None:
+    """Largest nominal size <= upper_m of ``system`` on ``axis`` whose every coil clears every coil
+    of the axes in ``outer`` (``cage.coillayout.axis_clears``), by bisection as
+    ``cage.layout.largest_nesting_size_m``; None if even 5 % of upper_m does not clear."""
+    from cage.coillayout import axis_clears
+    from cage.coilsystems import system_axis
+    from cage.layout import largest_clear_size_m
+
+    return largest_clear_size_m(lambda size: axis_clears(system_axis(axis, shape, system, size), outer, frame),
+                                upper_m, tolerance_m)
+
+
+def largest_uniform_cube_m(ax, tolerance: float, rel_precision: float = 1e-4) -> float:
+    """Side (m) of the largest centred cube over which the axis ``ax`` (any coils) keeps
+    ``tolerance`` (exact field, ``cage.axissizing.axis_deviation``), within the coils' clear
+    volume (``wires_clear_volume``): bisection on the side."""
+    from cage.axissizing import axis_deviation, wires_clear_volume
+
+    def ok(side: float) -> bool:
+        box = (side, side, side)
+        return wires_clear_volume(ax, box_m=box) and axis_deviation(ax, box_m=box) <= tolerance
+
+    lo, hi = 0.0, 2.0 * ax.half_width_m
+    while hi - lo > rel_precision * hi:
+        mid = 0.5 * (lo + hi)
+        lo, hi = (mid, hi) if ok(mid) else (lo, mid)
+    return lo
+
+
+def compare_system_rows(inp, sizes_m, system: str, progress=None) -> list:
+    """``cage.compare.compare_sizes`` for cages whose three axes are all ``system`` (three- or
+    four-coil): at each outer size (side of the outermost squares, or diameter of the outermost
+    largest circle) each order of the axes and each shape the system has, the outermost axis takes
+    that size and each axis further in the largest size no wider than the one outside it that
+    clears every coil outside it; windings by ``winding_for_axis``; the best by the objective,
+    preferring cages that fit the room and meet the uniformity. Rows carry ``system``."""
+    from cage.coilaxis import AxisCage
+    from cage.coillayout import check_axes_layout
+    from cage.coilsystems import system_axis, systems_for_shape
+    from cage.compare import CompareRow, _size_from_outer
+
+    shapes = [s for s in inp.shapes if system in systems_for_shape(s)]
+    orders = [inp.axis_order] if inp.axis_order else list(itertools.permutations(AXES))
+    windings: dict = {}
+    rows = []
+    for outer in sizes_m:
+        outer = float(outer)
+        best, reason = None, "" if shapes else f"no {system} system for the allowed shapes"
+        for order in orders:
+            for shape in shapes:
+                placed = [system_axis(order[0], shape, system, _size_from_outer(shape, outer))]
+                for axis in order[1:]:
+                    upper = _size_from_outer(shape, 2.0 * placed[-1].half_width_m)
+                    size = largest_nesting_axis_size_m(axis, shape, system, placed, inp.frame, upper)
+                    if size is None:
+                        break
+                    placed.append(system_axis(axis, shape, system, size))
+                if len(placed) < 3:
+                    reason = f"the frames do not nest at {outer:g} m"
+                    continue
+                by_axis = {p.axis: p for p in placed}
+                cage1 = AxisCage(by_axis["x"], by_axis["y"], by_axis["z"])
+                axes = []
+                for ax in cage1.axes:
+                    if ax not in windings:
+                        windings[ax] = winding_for_axis(ax, inp, ax.size_m)
+                    plan, why, _ = windings[ax]
+                    if plan is None:
+                        reason = why
+                        break
+                    axes.append(plan)
+                if len(axes) < 3:
+                    continue
+                layout = check_axes_layout(cage1, inp.frame, inp.room)
+                power = sum(a.drive.power_W for a in axes)
+                mass = sum(a.electrics.copper_mass_kg for a in axes)
+                score = {"power": power, "mass": mass, "size": float(np.prod(layout.envelope_m))}[inp.minimise]
+                meets = all(a.uniformity_reached <= inp.uniformity for a in axes) and layout.fits_room
+                key = (not layout.fits_room, not meets, score)
+                if best is None or key < best[0]:
+                    best = (key, shape, order, cage1, axes, layout, power, mass, meets)
+        if best is None:
+            rows.append(CompareRow(outer_size_m=outer, feasible=False, reason=reason or "no candidate",
+                                   system=system))
+        else:
+            _, shape, order, cage1, axes, layout, power, mass, meets = best
+            cube = min(largest_uniform_cube_m(ax, inp.uniformity) for ax in cage1.axes)
+            rows.append(CompareRow(
+                outer_size_m=outer, feasible=True, shape=shape, order=tuple(order),
+                shapes=tuple(ax.shape for ax in cage1.axes), sizes_m=tuple(ax.size_m for ax in cage1.axes),
+                envelope_m=layout.envelope_m, uniform_cube_m=cube, total_power_W=power, copper_mass_kg=mass,
+                fits_room=layout.fits_room, meets_requirement=meets, system=system))
+        if progress is not None:
+            progress(outer)
+    return rows
