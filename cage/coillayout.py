@@ -174,11 +174,12 @@ def design_geometry_problems(design, frame: FrameSpec, test_volume_m=None) -> li
     """``cage.layout.geometry_problems`` for a design of pairs (on the frame lines and frame sizes
     each axis records, ``cage.layout.design_frames``), else
     ``axes_geometry_problems`` of every coil (``cage.designfile.Design``)."""
-    from cage.layout import design_frames, geometry_problems
+    from cage.layout import design_frames, geometry_problems, too_small_problems
 
     if design.all_pairs:
         frames, pair_frame = design_frames(design, design.layout)  # each axis's recorded frame line
-        return geometry_problems(frames, pair_frame, test_volume_m)
+        # a winding no wider than its frame is refused before its frame line is derived from it
+        return too_small_problems(design.cage, pair_frame) or geometry_problems(frames, pair_frame, test_volume_m)
     return axes_geometry_problems(design.axis_cage, frame, test_volume_m)
 
 

@@ -332,6 +332,13 @@ def _bisect_edge(ok, good: float, bad: float, tolerance: float) -> float:
     return good
 
 
+def too_small_problems(cage: CoilCage, frame: FrameSpec) -> list[str]:
+    """The pairs whose coils are no wider than their frame's depth (no room for the frame's
+    hole), in plain words; empty if none."""
+    return [f"the {p.axis} pair ({p.shape}, {p.size_m:g} m) is smaller than its {frame.depth_m * 1000:g} mm frame"
+            for p in cage.pairs if p.half_width_m <= frame.depth_m / 2.0]
+
+
 def geometry_problems(cage: CoilCage, frame: FrameSpec, test_volume_m=None) -> list[str]:
     """What makes a cage impossible to build or to use, in plain words (empty if nothing).
 
@@ -339,11 +346,7 @@ def geometry_problems(cage: CoilCage, frame: FrameSpec, test_volume_m=None) -> l
     plus the gap, less 1 mm of slack for a design made elsewhere), a coil smaller than its
     frame, and a test volume that a coil passes through.
     """
-    out = []
-    for p in cage.pairs:
-        if p.half_width_m <= frame.depth_m / 2.0:
-            out.append(f"the {p.axis} pair ({p.shape}, {p.size_m:g} m) is smaller than its "
-                       f"{frame.depth_m * 1000:g} mm frame")
+    out = too_small_problems(cage, frame)
     if out:
         return out
     layout = check_layout(cage, frame)
