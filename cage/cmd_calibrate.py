@@ -1,6 +1,8 @@
 """``cage calibrate``: fit the built cage from magnetometer readings, or suggest the current sets to record."""
 from __future__ import annotations
 
+from cage.escape import for_terminal
+
 import dataclasses
 import math
 from pathlib import Path
@@ -67,7 +69,7 @@ def register(app: typer.Typer) -> None:
                 ",".join(f"{v:.4f}" for v in row) + "\n" for row in currents)
             if out is not None:
                 write_text(out, text)
-                say(f"Wrote {out} ({len(currents)} current sets, condition {design_condition_number(currents):.2f})")
+                say(f"Wrote {for_terminal(out)} ({len(currents)} current sets, condition {design_condition_number(currents):.2f})")
             else:
                 typer.echo(text, nl=False)
                 warn(f"{len(currents)} current sets within 80 % of what each supply can drive at operating "
@@ -92,7 +94,7 @@ def register(app: typer.Typer) -> None:
         else:
             say(calibration_text(summary))
             if out is not None:
-                say(f"Wrote {out}; use it with: cage setpoints {design_file} SITE.toml --calibration {out}")
+                say(f"Wrote {for_terminal(out)}; use it with: cage setpoints {for_terminal(design_file)} SITE.toml --calibration {for_terminal(out)}")
 
 
 def readings_provenance(design_obj, site_file, date, data_file):

@@ -1,6 +1,8 @@
 """``cage design`` (plan a cage, write its design file) and ``cage compare`` (the best cage per outer size)."""
 from __future__ import annotations
 
+from cage.escape import for_terminal
+
 import sys
 from pathlib import Path
 from typing import Optional
@@ -39,12 +41,12 @@ def register(app: typer.Typer) -> None:
         for w in planned.amb.warnings:
             warn(w)
         save_design(out, planned.design)
-        say(f"Design for {site.name} ({planned.amb.source} field, {planned.amb.earth.date.isoformat()}); "
+        say(f"Design for {for_terminal(site.name)} ({planned.amb.source} field, {planned.amb.earth.date.isoformat()}); "
             f"cage +x at {planned.design.site['heading_note']}")
         say(design_table(planned.plan, planned.inp, packs_of(planned.design)))
         for line in planned.cautions:
             warn(line)
-        say(f"Wrote {out}")
+        say(f"Wrote {for_terminal(out)}")
 
     @app.command()
     def compare(
@@ -90,7 +92,7 @@ def register(app: typer.Typer) -> None:
                                   "uniformity": inp.uniformity, "room_inner_min_m": room_limit,
                                   "rows": [r.as_dict() for r in rows]}), nl=False)
             return
-        say(f"Cage sizes for {site.name}: test volume {' x '.join(f'{v:g}' for v in inp.test_volume_m)} m "
+        say(f"Cage sizes for {for_terminal(site.name)}: test volume {' x '.join(f'{v:g}' for v in inp.test_volume_m)} m "
             f"at {inp.uniformity * 100:g} %")
         multi = any(r.system != "pair" for r in rows)
         sys_head = f" {'system':>10}" if multi else ""
@@ -108,4 +110,4 @@ def register(app: typer.Typer) -> None:
             say(f"{r.outer_size_m:>10.2f}{sys_cell} {r.shape:>7} {env:>22} {r.uniform_cube_m:>9.3f} "
                 f"{r.total_power_W:>10.1f} {r.copper_mass_kg:>12.1f}  {mark}")
         if plot is not None:
-            say(f"Wrote {plot}")
+            say(f"Wrote {for_terminal(plot)}")

@@ -2,6 +2,8 @@
 ``cage report`` (report.html of a plan folder)."""
 from __future__ import annotations
 
+from cage.escape import for_terminal
+
 import dataclasses
 import json
 from pathlib import Path
@@ -139,7 +141,7 @@ def register(app: typer.Typer) -> None:
 
         pngs = make_figures(design_obj, design_doc, setpoints_doc)
         path = write_report(folder, field_doc, design_doc, setpoints_doc, pngs)
-        say(f"Wrote {path}, build.csv, connection_x/y/z.png and {', '.join(pngs)}")
+        say(f"Wrote {for_terminal(path)}, build.csv, connection_x/y/z.png and {', '.join(pngs)}")
         if pdf:
             from cage.pdfexport import html_to_pdf
 
@@ -186,7 +188,7 @@ def register(app: typer.Typer) -> None:
         setpoints_doc = json.loads(texts["setpoints.json"])
         pngs = make_figures(planned.design, design_doc, setpoints_doc)
         write_folder(out, {**texts, **report_files(json.loads(texts["field.json"]), design_doc, setpoints_doc, pngs)})
-        say(f"Plan for {site.name} ({planned.amb.source} field, {planned.amb.earth.date.isoformat()}) in {out}/; "
+        say(f"Plan for {for_terminal(site.name)} ({planned.amb.source} field, {planned.amb.earth.date.isoformat()}) in {for_terminal(out)}/; "
             f"cage +x at {planned.design.site['heading_note']}")
         say(design_table(planned.plan, planned.inp, packs_of(planned.design)))
         say("")

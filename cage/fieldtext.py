@@ -1,6 +1,8 @@
 """The table of ``cage field``: the site's field in the geographic and the cage frame. Command-line layer."""
 from __future__ import annotations
 
+from cage.escape import for_terminal
+
 
 def fmt(value: float, digits: int = 1) -> str:
     text = f"{value:,.{digits}f}"
@@ -12,7 +14,7 @@ def field_table(site, amb) -> str:
 
     e = amb.earth
     lines = [
-        f"Site        {site.name}",
+        f"Site        {for_terminal(site.name)}",
         f"Position    {latitude_text(e.latitude_deg)}, {longitude_text(e.longitude_deg)}, "
         f"{fmt(e.altitude_m, 0)} m (WGS84)",
         f"Date        {e.date.isoformat()}{'' if site.date_given else ' (today, UTC)'}   model {e.model}",

@@ -8,11 +8,11 @@ import json
 
 import typer
 
+from cage.escape import for_terminal
+
 
 def visible(text) -> str:
     """Text for the terminal: each line's control characters made visible (cage.escape)."""
-    from cage.escape import for_terminal
-
     return "\n".join(for_terminal(line) for line in str(text).split("\n"))
 
 
@@ -44,6 +44,6 @@ def emit_table(out, text: str, kind: str, rows: int) -> None:
         from cage.atomicfile import write_text
 
         write_text(out, text)
-        say(f"Wrote {out} ({kind}, {rows} rows)")
+        say(f"Wrote {for_terminal(out)} ({kind}, {rows} rows)")
     else:
         typer.echo(text, nl=False)

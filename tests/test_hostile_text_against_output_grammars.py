@@ -218,3 +218,20 @@ def test_scpi_self_check_refuses_what_a_supply_must_not_get():
             check_scpi(head + bad)
     with pytest.raises(ScpiCheckError):
         check_scpi("INST:NSEL 1\n")  # no stated limits: cannot be checked
+
+
+@pytest.mark.parametrize("key", ("lf", "crlf", "u2028"))
+def test_hostile_site_name_stays_on_its_line_in_field_design_plan(run_cli, hostile_setup, key, tmp_path):
+    """A line break in the site name never starts a new terminal line: the lines that name the
+    site (field, design, plan) each hold the whole name, escaped (cage.escape.for_terminal)."""
+    _, sites, _ = hostile_setup
+    site = sites[key]
+    shown = for_terminal(HOSTILE[key])
+    for args, first in ((("field", site), "Site        "),
+                        (("design", site, "--out", tmp_path / "d.json"), "Design for "),
+                        (("plan", site, "--out", tmp_path / "plan"), "Plan for ")):
+        run = run_cli(*args)
+        assert run.code == 0, run
+        lines = [line for line in run.out.split("\n") if line.startswith(first)]
+        assert len(lines) == 1 and shown in lines[0], (args[0], run.out[:300])
+        assert not any(line.startswith(("VOLT 500", "*RST", "OUTP ON")) for line in run.out.splitlines())
