@@ -13,6 +13,7 @@ from matplotlib.lines import Line2D
 from matplotlib.patches import Rectangle
 from matplotlib.ticker import FixedLocator, FuncFormatter, MaxNLocator, NullLocator
 
+from cage.coilaxis import AxisCage, CoilAxis, check_axis_cage
 from cage.coils import AXES, CoilCage, check_cage
 from cage.errors import InputError
 from cage.figurestyle import (AXIS_COLOURS, FIG_WIDTH_IN, _FS, _MAP_FLOOR, _MAP_LEVELS, _RC, _finish, _grid,
@@ -24,16 +25,16 @@ from cage.figurestyle import (AXIS_COLOURS, FIG_WIDTH_IN, _FS, _MAP_FLOOR, _MAP_
 # ---------------------------------------------------------------------------------------------
 
 
-def default_map_width_m(cage: CoilCage, test_volume_m) -> float:
+def default_map_width_m(cage: CoilCage | AxisCage, test_volume_m) -> float:
     """Full width (m) of the square region mapped around the centre by default.
 
     2.5 x the largest side of the test volume, but at most 1.8 x the smallest half-width of
     the three pairs (a half-width of 0.9 x the smallest coil's), so the map stays inside the
     coils where the deviation is small enough to read.
     """
-    check_cage(cage)
+    units = cage_axes(cage)
     tv = _three_lengths(test_volume_m, "test_volume_m")
-    inner = min(p.half_width_m for p in cage.pairs)
+    inner = min(p.half_width_m for p in units)
     width = 2.5 * float(tv.max()) if tv.max() > 0 else 1.8 * inner
     return float(min(width, 1.8 * inner))
 
@@ -41,11 +42,33 @@ def default_map_width_m(cage: CoilCage, test_volume_m) -> float:
 _MAP_PLANES = ("xy", "yz", "zx")
 
 
+def cage_axes(cage):
+    """The three driven units of a cage: its pairs (``CoilCage``) or its coil axes (``AxisCage``)."""
+    if isinstance(cage, AxisCage):
+        return check_axis_cage(cage).axes
+    return check_cage(cage).pairs
+
+
+def driven_name(unit) -> str:
+    """"x pair" for a pair, "x axis (four, 4 coils)" for an axis of coils."""
+    if isinstance(unit, CoilAxis):
+        return f"{unit.axis} axis ({unit.system}, {unit.count} coils)"
+    return f"{unit.axis} pair"
+
+
+def _unit_field_T(unit, points_m) -> np.ndarray:
+    """Field (T) of one pair or coil axis at 1 A (cage.coils.pair_field_T, cage.coilaxis.axis_field_T)."""
+    from cage.coilaxis import axis_field_T
+    from cage.coils import pair_field_T
+
+    return (axis_field_T if isinstance(unit, CoilAxis) else pair_field_T)(unit, 1.0, points_m)
+
+
 def _rel_formatter():
     return FuncFormatter(lambda v, _pos: relative_label(v) if v > 0 else "0")
 
 
-def uniformity_maps_figure(cage: CoilCage, test_volume_m, tolerance: float, extent_m=None,
+def uniformity_maps_figure(cage: CoilCage | AxisCage, test_volume_m, tolerance: float, extent_m=None,
                            n: int = 61) -> Figure:
     """3 x 3 contour maps of the relative deviation |B(p) - B(0)| / |B(0)|, each axis alone.
 
@@ -57,11 +80,12 @@ def uniformity_maps_figure(cage: CoilCage, test_volume_m, tolerance: float, exte
 
     test_volume_m: box sides (x, y, z) in metres, or one number for a cube. tolerance: relative
     (0.001 = 0.1 %). extent_m: full width (m) of the square mapped in every plane (default
-    ``default_map_width_m``). n: grid points along each side of a map.
+    ``default_map_width_m``). n: grid points along each side of a map. cage: a ``CoilCage`` of
+    pairs or a ``cage.coilaxis.AxisCage`` (every coil of each axis drives the field).
     """
     from cage.uniformity import deviation_map
 
-    check_cage(cage)
+    units = cage_axes(cage)
     tv = _three_lengths(test_volume_m, "test_volume_m")
     tol = _tolerance(tolerance)
     n = _grid(n, "n", 5)
@@ -75,7 +99,7 @@ def uniformity_maps_figure(cage: CoilCage, test_volume_m, tolerance: float, exte
         fig = _new_figure(FIG_WIDTH_IN, 6.9)
         axes = fig.subplots(3, 3, sharex="col", sharey="col")
         filled = None
-        for r, pair in enumerate(cage.pairs):
+        for r, pair in enumerate(units):
             for c, plane in enumerate(_MAP_PLANES):
                 ax = axes[r, c]
                 m = deviation_map(pair, plane, size_m=(width, width), n=(n, n))
@@ -92,7 +116,7 @@ def uniformity_maps_figure(cage: CoilCage, test_volume_m, tolerance: float, exte
                 ax.xaxis.set_major_locator(MaxNLocator(nbins=3, symmetric=True))
                 ax.yaxis.set_major_locator(MaxNLocator(nbins=5, symmetric=True))
                 third = AXES[3 - iu - iv]
-                ax.set_title(f"{pair.axis} pair driven, {third} = 0", fontsize=_FS["base"])
+                ax.set_title(f"{driven_name(pair)} driven, {third} = 0", fontsize=_FS["base"])
                 ax.set_ylabel(f"{plane[1]} (m)")
                 if r == 2:
                     ax.set_xlabel(f"{plane[0]} (m)")
@@ -102,7 +126,8 @@ def uniformity_maps_figure(cage: CoilCage, test_volume_m, tolerance: float, exte
         cbar.ax.axhline(tol, color="black", linewidth=2.5)
         cbar.set_label("relative deviation |B(p) − B(0)| / |B(0)|  (ppm, %)")
         fig.suptitle(
-            f"Field uniformity in the mid-planes, each pair driven alone\n"
+            f"Field uniformity in the mid-planes, each {'pair' if isinstance(cage, CoilCage) else 'axis'} "
+            f"driven alone\n"
             f"tolerance {relative_label(tol)} (bold black line), "
             f"test volume {_m(tv[0])} × {_m(tv[1])} × {_m(tv[2])} m (dashed white)",
             fontsize=_FS["title"])
@@ -112,26 +137,35 @@ def uniformity_maps_figure(cage: CoilCage, test_volume_m, tolerance: float, exte
 _LINE_STYLES = ("-", (0, (5, 2)), (0, (1.5, 1.5)))
 
 
-def axis_line_changes(cage: CoilCage, positions_m) -> np.ndarray:
+def axis_line_changes(cage: CoilCage | AxisCage, positions_m) -> np.ndarray:
     """B_a(s e_k) / B_a(0) - 1 for each driven axis a and line direction k (3, 3, len(s)).
 
     positions_m: positions s (m) along the lines through the centre. Index [a, k, :] is pair a
-    driven alone, along the line in direction k. Filament model (cage.coils.pair_field_T).
+    driven alone, along the line in direction k. Filament model (cage.coils.pair_field_T, or
+    cage.coilaxis.axis_field_T for every coil of an axis of an ``AxisCage``).
     """
-    from cage.coils import pair_field_T
-
     s = np.asarray(positions_m, dtype=float)
     out = np.empty((3, 3, s.size))
-    for a, pair in enumerate(cage.pairs):
+    for a, pair in enumerate(cage_axes(cage)):
         pts = np.zeros((3 * s.size + 1, 3))
         for k in range(3):
             pts[1 + k * s.size: 1 + (k + 1) * s.size, k] = s
-        b = pair_field_T(pair, 1.0, pts)[:, a]
+        b = _unit_field_T(pair, pts)[:, a]
         out[a] = (b[1:] / b[0] - 1.0).reshape(3, s.size)
     return out
 
 
-def axis_lines_figure(cage: CoilCage, test_volume_m, tolerance: float, n: int = 201,
+def _line_title(pair) -> str:
+    size = 'side' if pair.shape == 'square' else 'radius'
+    if isinstance(pair, CoilAxis):
+        planes = sorted({round(abs(c.position_m), 3) for c in pair.coils})
+        return (f"{driven_name(pair)} driven alone ({pair.shape}, {size} up to {pair.size_m:.3f} m, "
+                f"coil planes at ±{', ±'.join(f'{p:.3f}' for p in planes)} m)").replace("±0.000", "0.000")
+    return (f"{pair.axis} pair driven alone ({pair.shape}, {size} {pair.size_m:.3f} m, "
+            f"spacing {pair.spacing_m:.3f} m)")
+
+
+def axis_lines_figure(cage: CoilCage | AxisCage, test_volume_m, tolerance: float, n: int = 201,
                       extent_m=None) -> Figure:
     """Relative change of each pair's own field component along the three lines through the centre.
 
@@ -141,8 +175,10 @@ def axis_lines_figure(cage: CoilCage, test_volume_m, tolerance: float, n: int = 
     B_a is the deviation |B(p) - B(0)| / |B(0)| with its sign.
 
     extent_m: full length (m) of each line (default ``default_map_width_m``); n: points per line.
+    cage: a ``CoilCage`` of pairs or a ``cage.coilaxis.AxisCage`` (its axes coaxial and mirror
+    symmetric, so the same holds).
     """
-    check_cage(cage)
+    units = cage_axes(cage)
     tv = _three_lengths(test_volume_m, "test_volume_m")
     tol = _tolerance(tolerance)
     n = _grid(n, "n", 3)
@@ -156,7 +192,7 @@ def axis_lines_figure(cage: CoilCage, test_volume_m, tolerance: float, n: int = 
     with matplotlib.rc_context(_RC):
         fig = _new_figure(FIG_WIDTH_IN, 7.2)
         axes = fig.subplots(3, 1, sharex=True)
-        for a, (ax, pair) in enumerate(zip(axes, cage.pairs)):
+        for a, (ax, pair) in enumerate(zip(axes, units)):
             ax.axhspan(-tol * scale, tol * scale, color="0.88", zorder=0,
                        label=f"tolerance ±{relative_label(tol)}")
             ax.axhline(0.0, color="0.5", linewidth=0.6, zorder=1)
@@ -183,9 +219,7 @@ def axis_lines_figure(cage: CoilCage, test_volume_m, tolerance: float, n: int = 
                         max(1.5 * tol, float(seen.max()) * 1.05) * scale)
             ax.set_xlim(s[0], s[-1])
             ax.set_ylabel(f"$B_{pair.axis}/B_{pair.axis}(0) - 1$ ({unit})")
-            ax.set_title(f"{pair.axis} pair driven alone ({pair.shape}, "
-                         f"{'side' if pair.shape == 'square' else 'radius'} {pair.size_m:.3f} m, "
-                         f"spacing {pair.spacing_m:.3f} m)", fontsize=_FS["base"])
+            ax.set_title(_line_title(pair), fontsize=_FS["base"])
             ax.grid(True, linewidth=0.4, alpha=0.5)
         handles, labels = axes[0].get_legend_handles_labels()
         handles.append(Line2D([], [], color="0.25", linestyle=(0, (4, 3)), linewidth=0.9))

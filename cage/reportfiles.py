@@ -21,10 +21,12 @@ def make_figures(design_obj, design_doc: dict, setpoints_doc: Optional[dict]) ->
     from cage.workflow import design_context, number_or
 
     volume, tol, frame, room = design_context(design_doc)
+    # A cage of pairs is drawn as pairs; any other system with every coil (cage.coilaxis.AxisCage).
+    cage = design_obj.cage if design_obj.all_pairs else design_obj.axis_cage
     figs = {
-        "uniformity.png": plots.uniformity_maps_figure(design_obj.cage, volume, tol),
-        "axis_lines.png": plots.axis_lines_figure(design_obj.cage, volume, tol),
-        "cage_in_room.png": plots.cage_in_room_figure(design_obj.cage, frame, room, volume,
+        "uniformity.png": plots.uniformity_maps_figure(cage, volume, tol),
+        "axis_lines.png": plots.axis_lines_figure(cage, volume, tol),
+        "cage_in_room.png": plots.cage_in_room_figure(cage, frame, room, volume,
                                                       number_or((design_doc.get("site") or {}).get("heading_true_deg"),
                                                                 None)),
     }

@@ -19,7 +19,8 @@ from matplotlib.lines import Line2D
 from matplotlib.patches import Patch, PathPatch, Rectangle
 from matplotlib.path import Path as MplPath
 
-from cage.coils import AXES, CoilCage, check_cage
+from cage.coilaxis import AxisCage, CoilAxis
+from cage.coils import AXES, CoilCage, CoilPair, check_cage
 from cage.errors import InputError
 from cage.figurestyle import AXIS_COLOURS, FIG_WIDTH_IN, _FS, _RC, _finish, _new_figure, _three_lengths
 
@@ -37,7 +38,7 @@ def _project(points_3: np.ndarray, ih: int, iv: int, height_of) -> tuple[np.ndar
     return h, v
 
 
-def _band_patch(pair, frame, ih, iv, height_of, colour) -> PathPatch:
+def _band_patch(pair, frame, ih, iv, height_of, colour, alpha: float = 0.45) -> PathPatch:
     """Face-on frame of one coil: the ring between the inner and outer frame edges."""
     from cage.layout import _curve_points
 
@@ -56,7 +57,7 @@ def _band_patch(pair, frame, ih, iv, height_of, colour) -> PathPatch:
     codes[len(ho)] = MplPath.CLOSEPOLY
     codes[len(ho) + 1] = MplPath.MOVETO
     codes[-1] = MplPath.CLOSEPOLY
-    return PathPatch(MplPath(verts, codes), facecolor=colour, edgecolor=colour, alpha=0.45,
+    return PathPatch(MplPath(verts, codes), facecolor=colour, edgecolor=colour, alpha=alpha,
                      linewidth=0.6, gid=f"frame-{pair.axis}")
 
 
@@ -87,11 +88,61 @@ def _draw_pair(ax, pair, frame, ih, iv, height_of) -> None:
                 gid=f"centreline-{pair.axis}")
 
 
+def _draw_coil_axis(ax, coil_axis: CoilAxis, frame, ih, iv, height_of) -> None:
+    """Every coil of an axis in one orthographic view, each at its own plane ``position_m``.
+
+    Each coil is drawn as ``_draw_pair`` draws one coil of a pair (cage.coillayout's one-coil
+    form: the +side coil of a pair of spacing 2|p| and the sign of p): a band when seen
+    face-on, a bar when seen edge-on, and its centreline. Face-on bands of equal coils lie on
+    top of each other, so each gets the alpha that makes the stack look like one pair's band.
+    """
+    from cage.layout import _curve_points
+
+    colour = AXIS_COLOURS[coil_axis.axis]
+    a = AXES.index(coil_axis.axis)
+    for coil in coil_axis.coils:
+        pair = CoilPair(coil_axis.axis, coil_axis.shape, float(coil.size_m), 2.0 * abs(float(coil.position_m)), 1)
+        sign = 1.0 if coil.position_m >= 0 else -1.0
+        if a not in (ih, iv):
+            same = sum(1 for c in coil_axis.coils if c.size_m == coil.size_m)
+            ax.add_patch(_band_patch(pair, frame, ih, iv, height_of, colour, 1.0 - 0.55 ** (1.0 / same)))
+        else:
+            reach = pair.half_width_m + frame.depth_m / 2
+            lo_a = float(coil.position_m) - frame.width_m / 2
+            hi_a = lo_a + frame.width_m
+            if a == ih:
+                h0, h1, v0, v1 = lo_a, hi_a, -reach, reach
+            else:
+                h0, h1, v0, v1 = -reach, reach, lo_a, hi_a
+            if iv == 2:
+                v0, v1 = sorted((height_of(v0), height_of(v1)))
+            ax.add_patch(Rectangle((h0, v0), h1 - h0, v1 - v0, facecolor=colour, edgecolor=colour,
+                                   alpha=0.45, linewidth=0.6, gid=f"frame-{coil_axis.axis}"))
+        h, v = _project(_curve_points(pair, _CURVE_T, sign), ih, iv, height_of)
+        ax.plot(np.append(h, h[0]), np.append(v, v[0]), color=colour, linewidth=0.8,
+                gid=f"centreline-{coil_axis.axis}")
+
+
+def _units(cage) -> tuple:
+    """The pairs of a ``CoilCage`` or the coil axes of a ``cage.coilaxis.AxisCage``, checked."""
+    from cage.coilaxis import check_axis_cage
+
+    if isinstance(cage, AxisCage):
+        return check_axis_cage(cage).axes
+    return check_cage(cage).pairs
+
+
+def _unit_label(unit) -> str:
+    if isinstance(unit, CoilAxis):
+        return f"{unit.axis} axis ({unit.system}, {unit.count} coils)"
+    return f"{unit.axis} pair"
+
+
 def _rect(ax, h0, h1, v0, v1, **kw) -> None:
     ax.add_patch(Rectangle((h0, v0), h1 - h0, v1 - v0, fill=False, **kw))
 
 
-def cage_in_room_figure(cage: CoilCage, frame, room, test_volume_m, heading_deg: float | None = None) -> Figure:
+def cage_in_room_figure(cage: CoilCage | AxisCage, frame, room, test_volume_m, heading_deg: float | None = None) -> Figure:
     """The cage in the room in three orthographic views, with the sizes written out.
 
     Top view (x-y, seen from above, +y down the page), front view (x-height, seen from +y),
@@ -105,15 +156,19 @@ def cage_in_room_figure(cage: CoilCage, frame, room, test_volume_m, heading_deg:
 
     frame: cage.layout.FrameSpec; room: cage.sitefile.Room or None; test_volume_m: box sides.
     heading_deg: true azimuth of cage +x; when given, the top view gets a north arrow and the
-    heading (``_north_arrow``).
+    heading (``_north_arrow``). cage: a ``CoilCage`` of pairs, or a ``cage.coilaxis.AxisCage``
+    whose every coil is drawn at its own plane (``_draw_coil_axis``; envelope from
+    ``cage.coillayout.axes_envelope_m``).
     """
+    from cage.coillayout import axes_envelope_m
     from cage.layout import FrameSpec, envelope_m, room_inner_m
 
-    check_cage(cage)
+    units = _units(cage)
     if not isinstance(frame, FrameSpec):
         raise InputError(f"frame must be a FrameSpec, got {type(frame).__name__}")
     tv = _three_lengths(test_volume_m, "test_volume_m")
-    env = np.asarray(envelope_m(cage, frame), dtype=float)
+    env = np.asarray(axes_envelope_m(cage, frame) if isinstance(cage, AxisCage) else envelope_m(cage, frame),
+                     dtype=float)
     clearance = float(room.clearance_m) if room is not None else 0.0
     base = clearance  # height of the lowest frame point
     centre_height = base + env[2] / 2
@@ -144,7 +199,7 @@ def cage_in_room_figure(cage: CoilCage, frame, room, test_volume_m, heading_deg:
     height_in = float(np.clip(scale_in_per_m * (span[1] + span[2]) + 1.3, 4.5, 9.8)) + info_h_in
     legend_cols = 2 if usable_w * span[1] / (span[0] + span[1]) >= 2.6 else 1
 
-    pairs = sorted(cage.pairs, key=lambda p: -p.half_width_m)
+    pairs = sorted(units, key=lambda p: -p.half_width_m)
     views = {
         "top": (0, 1, "top view, seen from above"),
         "front": (0, 2, "front view, seen from +y"),
@@ -184,7 +239,10 @@ def cage_in_room_figure(cage: CoilCage, frame, room, test_volume_m, heading_deg:
                   gid="envelope")
             # Frames, outermost pair first.
             for pair in pairs:
-                _draw_pair(ax, pair, frame, ih, iv, height_of)
+                if isinstance(pair, CoilAxis):
+                    _draw_coil_axis(ax, pair, frame, ih, iv, height_of)
+                else:
+                    _draw_pair(ax, pair, frame, ih, iv, height_of)
             # Test volume.
             t_v0, t_v1 = ((height_of(tv[2] / 2), height_of(-tv[2] / 2)) if iv == 2
                           else (-tv[iv] / 2, tv[iv] / 2))
@@ -221,8 +279,8 @@ def cage_in_room_figure(cage: CoilCage, frame, room, test_volume_m, heading_deg:
                      ha="left", va="center", fontsize=_FS["small"], color="0.15",
                      bbox=dict(facecolor="white", edgecolor="none", pad=0.6, alpha=0.8))
 
-        _legend_panel(ax_legend, cage, room, legend_cols)
-        _info_panel(ax_info, cage, frame, room, env, inner, tv)
+        _legend_panel(ax_legend, units, room, legend_cols)
+        _info_panel(ax_info, units, frame, room, env, inner, tv)
         if heading_deg is not None:
             _north_arrow(ax_top, heading_deg)
         fig.suptitle("The cage in the room", fontsize=_FS["title"])
@@ -251,11 +309,11 @@ def _north_arrow(ax, heading_deg: float) -> None:
             bbox=dict(facecolor="white", edgecolor="none", pad=0.6, alpha=0.8))
 
 
-def _legend_panel(ax, cage, room, ncol: int) -> None:
+def _legend_panel(ax, units, room, ncol: int) -> None:
     """The legend and the frame's directions, in an axis-less panel."""
     ax.set_axis_off()
     handles = [Patch(facecolor=AXIS_COLOURS[p.axis], alpha=0.45, edgecolor=AXIS_COLOURS[p.axis],
-                     label=f"{p.axis} pair frames") for p in cage.pairs]
+                     label=f"{_unit_label(p)} frames") for p in units]
     handles.append(Patch(facecolor="0.55", edgecolor="black", alpha=0.7, label="test volume"))
     if room is not None:
         handles.append(Line2D([], [], color="black", linewidth=2.2, label="room walls"))
@@ -268,7 +326,7 @@ def _legend_panel(ax, cage, room, ncol: int) -> None:
             color="0.25", linespacing=1.4)
 
 
-def _info_panel(ax, cage, frame, room, env, inner, tv) -> None:
+def _info_panel(ax, units, frame, room, env, inner, tv) -> None:
     """The sizes in words, in two columns, in an axis-less panel."""
     ax.set_axis_off()
     left = []
@@ -290,7 +348,14 @@ def _info_panel(ax, cage, frame, room, env, inner, tv) -> None:
             colour = "#b00020"
     left.append(f"Test volume  {tv[0]:.2f} × {tv[1]:.2f} × {tv[2]:.2f} m")
     right = []
-    for pair in cage.pairs:
+    for pair in units:
+        if isinstance(pair, CoilAxis):
+            size, value = ("side", pair.size_m) if pair.shape == "square" else ("diameter", 2 * pair.size_m)
+            planes = ", ".join(f"{c.position_m:+.3f}" for c in pair.coils)
+            turns = "/".join(str(int(c.turns)) for c in pair.coils)
+            right.append(f"{pair.axis} {pair.system}  {pair.shape}, {size} up to {value:.3f} m, "
+                         f"coils at {planes} m, {turns} turns")
+            continue
         size, value = ("side", pair.size_m) if pair.shape == "square" else ("diameter", 2 * pair.size_m)
         right.append(f"{pair.axis} pair  {pair.shape}, {size} {value:.3f} m, "
                      f"spacing {pair.spacing_m:.3f} m, {pair.turns} turns")

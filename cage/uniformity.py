@@ -172,11 +172,21 @@ def deviation_map(pair: CoilPair, plane: str = "xy", size_m=(1.0, 1.0), n=(41, 4
                   offset_m: float = 0.0, pack: FilamentPack | None = None) -> DeviationMap:
     """Deviation map of ``pair`` driven alone on a centred rectangle of the given plane.
 
+    pair: a ``CoilPair`` or any axis of coaxial coils (``cage.coilaxis.CoilAxis``, its field by
+    ``cage.coilaxis.axis_field_T``).
+
     plane: "xy", "yz", "zx" (or reversed); size_m: (width along the first axis, along the
     second) in metres; n: grid points (along the first, along the second); offset_m: position
     of the plane along the third axis.
     """
-    check_pair(pair)
+    from cage.coilaxis import CoilAxis, axis_field_T, check_coil_axis
+
+    if isinstance(pair, CoilAxis):
+        check_coil_axis(pair)
+        field_T = axis_field_T
+    else:
+        check_pair(pair)
+        field_T = pair_field_T
     if not isinstance(plane, str) or len(plane) != 2 or plane[0] not in AXES or plane[1] not in AXES \
             or plane[0] == plane[1]:
         raise InputError(f"plane must be two different axes out of x, y, z such as 'xy', got {plane!r}")
@@ -200,7 +210,7 @@ def deviation_map(pair: CoilPair, plane: str = "xy", size_m=(1.0, 1.0), n=(41, 4
     pts[1:, iu] = uu.ravel()
     pts[1:, iv] = vv.ravel()
     pts[1:, iw] = off
-    b = pair_field_T(pair, 1.0, pts, pack=pack)
+    b = field_T(pair, 1.0, pts, pack=pack)
     dev = np.linalg.norm(b[1:] - b[0], axis=1) / np.linalg.norm(b[0])
     return DeviationMap(plane=plane, offset_m=off, u_m=uu, v_m=vv, deviation=dev.reshape(uu.shape))
 
