@@ -56,6 +56,10 @@ def driven_name(unit) -> str:
     return f"{unit.axis} pair"
 
 
+def _map_name(unit) -> str:
+    return f"{unit.axis} axis ({unit.system})" if isinstance(unit, CoilAxis) else f"{unit.axis} pair"
+
+
 def _unit_field_T(unit, points_m) -> np.ndarray:
     """Field (T) of one pair or coil axis at 1 A (cage.coils.pair_field_T, cage.coilaxis.axis_field_T)."""
     from cage.coilaxis import axis_field_T
@@ -116,7 +120,7 @@ def uniformity_maps_figure(cage: CoilCage | AxisCage, test_volume_m, tolerance: 
                 ax.xaxis.set_major_locator(MaxNLocator(nbins=3, symmetric=True))
                 ax.yaxis.set_major_locator(MaxNLocator(nbins=5, symmetric=True))
                 third = AXES[3 - iu - iv]
-                ax.set_title(f"{driven_name(pair)} driven, {third} = 0", fontsize=_FS["base"])
+                ax.set_title(f"{_map_name(pair)} driven, {third} = 0", fontsize=_FS["base"])
                 ax.set_ylabel(f"{plane[1]} (m)")
                 if r == 2:
                     ax.set_xlabel(f"{plane[0]} (m)")

@@ -350,11 +350,11 @@ def _info_panel(ax, units, frame, room, env, inner, tv) -> None:
     right = []
     for pair in units:
         if isinstance(pair, CoilAxis):
-            size, value = ("side", pair.size_m) if pair.shape == "square" else ("diameter", 2 * pair.size_m)
-            planes = ", ".join(f"{c.position_m:+.3f}" for c in pair.coils)
-            turns = "/".join(str(int(c.turns)) for c in pair.coils)
-            right.append(f"{pair.axis} {pair.system}  {pair.shape}, {size} up to {value:.3f} m, "
-                         f"coils at {planes} m, {turns} turns")
+            size, value = ("side", pair.size_m) if pair.shape == "square" else ("Ø", 2 * pair.size_m)
+            planes = sorted({round(abs(float(c.position_m)), 2) for c in pair.coils})
+            at = " ".join(f"±{p:.2f}" if p > 0 else "0" for p in planes)
+            right.append(f"{pair.axis} {pair.system}  {pair.shape}, {size} ≤{value:.2f} m, at {at} m, "
+                         f"{pair.total_turns} turns")
             continue
         size, value = ("side", pair.size_m) if pair.shape == "square" else ("diameter", 2 * pair.size_m)
         right.append(f"{pair.axis} pair  {pair.shape}, {size} {value:.3f} m, "
