@@ -20,8 +20,9 @@ from matplotlib.patches import Patch, PathPatch, Rectangle
 from matplotlib.path import Path as MplPath
 
 from cage.coilaxis import AxisCage, CoilAxis
-from cage.coils import AXES, CoilCage, CoilPair, check_cage
+from cage.coils import AXES, CoilCage, CoilPair
 from cage.errors import InputError
+from cage.fieldfigures import cage_axes, driven_name
 from cage.figurestyle import AXIS_COLOURS, FIG_WIDTH_IN, _FS, _RC, _finish, _new_figure, _three_lengths
 
 
@@ -61,6 +62,23 @@ def _band_patch(pair, frame, ih, iv, height_of, colour, alpha: float = 0.45) -> 
                      linewidth=0.6, gid=f"frame-{pair.axis}")
 
 
+def _edge_bar(ax, pair, plane_m: float, frame, ih, iv, height_of, colour) -> None:
+    """The frame of one coil of ``pair`` seen edge-on: a bar of the frame's width centred on its
+    plane (``plane_m`` along the axis), reaching the half-width plus half the frame depth."""
+    a = AXES.index(pair.axis)
+    reach = pair.half_width_m + frame.depth_m / 2
+    lo_a = plane_m - frame.width_m / 2
+    hi_a = lo_a + frame.width_m
+    if a == ih:
+        h0, h1, v0, v1 = lo_a, hi_a, -reach, reach
+    else:
+        h0, h1, v0, v1 = -reach, reach, lo_a, hi_a
+    if iv == 2:
+        v0, v1 = sorted((height_of(v0), height_of(v1)))
+    ax.add_patch(Rectangle((h0, v0), h1 - h0, v1 - v0, facecolor=colour, edgecolor=colour,
+                           alpha=0.45, linewidth=0.6, gid=f"frame-{pair.axis}"))
+
+
 def _draw_pair(ax, pair, frame, ih, iv, height_of) -> None:
     """One pair in one orthographic view: frames as bands (face-on) or bars (edge-on)."""
     from cage.layout import _curve_points
@@ -70,18 +88,8 @@ def _draw_pair(ax, pair, frame, ih, iv, height_of) -> None:
     if a not in (ih, iv):
         ax.add_patch(_band_patch(pair, frame, ih, iv, height_of, colour))
     else:
-        reach = pair.half_width_m + frame.depth_m / 2
         for sign in (-1.0, 1.0):
-            lo_a = sign * pair.spacing_m / 2 - frame.width_m / 2
-            hi_a = lo_a + frame.width_m
-            if a == ih:
-                h0, h1, v0, v1 = lo_a, hi_a, -reach, reach
-            else:
-                h0, h1, v0, v1 = -reach, reach, lo_a, hi_a
-            if iv == 2:
-                v0, v1 = sorted((height_of(v0), height_of(v1)))
-            ax.add_patch(Rectangle((h0, v0), h1 - h0, v1 - v0, facecolor=colour, edgecolor=colour,
-                                   alpha=0.45, linewidth=0.6, gid=f"frame-{pair.axis}"))
+            _edge_bar(ax, pair, sign * pair.spacing_m / 2, frame, ih, iv, height_of, colour)
     for sign in (1.0, -1.0):
         h, v = _project(_curve_points(pair, _CURVE_T, sign), ih, iv, height_of)
         ax.plot(np.append(h, h[0]), np.append(v, v[0]), color=colour, linewidth=0.8,
@@ -107,35 +115,10 @@ def _draw_coil_axis(ax, coil_axis: CoilAxis, frame, ih, iv, height_of) -> None:
             same = sum(1 for c in coil_axis.coils if c.size_m == coil.size_m)
             ax.add_patch(_band_patch(pair, frame, ih, iv, height_of, colour, 1.0 - 0.55 ** (1.0 / same)))
         else:
-            reach = pair.half_width_m + frame.depth_m / 2
-            lo_a = float(coil.position_m) - frame.width_m / 2
-            hi_a = lo_a + frame.width_m
-            if a == ih:
-                h0, h1, v0, v1 = lo_a, hi_a, -reach, reach
-            else:
-                h0, h1, v0, v1 = -reach, reach, lo_a, hi_a
-            if iv == 2:
-                v0, v1 = sorted((height_of(v0), height_of(v1)))
-            ax.add_patch(Rectangle((h0, v0), h1 - h0, v1 - v0, facecolor=colour, edgecolor=colour,
-                                   alpha=0.45, linewidth=0.6, gid=f"frame-{coil_axis.axis}"))
+            _edge_bar(ax, pair, float(coil.position_m), frame, ih, iv, height_of, colour)
         h, v = _project(_curve_points(pair, _CURVE_T, sign), ih, iv, height_of)
         ax.plot(np.append(h, h[0]), np.append(v, v[0]), color=colour, linewidth=0.8,
                 gid=f"centreline-{coil_axis.axis}")
-
-
-def _units(cage) -> tuple:
-    """The pairs of a ``CoilCage`` or the coil axes of a ``cage.coilaxis.AxisCage``, checked."""
-    from cage.coilaxis import check_axis_cage
-
-    if isinstance(cage, AxisCage):
-        return check_axis_cage(cage).axes
-    return check_cage(cage).pairs
-
-
-def _unit_label(unit) -> str:
-    if isinstance(unit, CoilAxis):
-        return f"{unit.axis} axis ({unit.system}, {unit.count} coils)"
-    return f"{unit.axis} pair"
 
 
 def _rect(ax, h0, h1, v0, v1, **kw) -> None:
@@ -163,7 +146,7 @@ def cage_in_room_figure(cage: CoilCage | AxisCage, frame, room, test_volume_m, h
     from cage.coillayout import axes_envelope_m
     from cage.layout import FrameSpec, envelope_m, room_inner_m
 
-    units = _units(cage)
+    units = cage_axes(cage)
     if not isinstance(frame, FrameSpec):
         raise InputError(f"frame must be a FrameSpec, got {type(frame).__name__}")
     tv = _three_lengths(test_volume_m, "test_volume_m")
@@ -313,7 +296,7 @@ def _legend_panel(ax, units, room, ncol: int) -> None:
     """The legend and the frame's directions, in an axis-less panel."""
     ax.set_axis_off()
     handles = [Patch(facecolor=AXIS_COLOURS[p.axis], alpha=0.45, edgecolor=AXIS_COLOURS[p.axis],
-                     label=f"{_unit_label(p)} frames") for p in units]
+                     label=f"{driven_name(p)} frames") for p in units]
     handles.append(Patch(facecolor="0.55", edgecolor="black", alpha=0.7, label="test volume"))
     if room is not None:
         handles.append(Line2D([], [], color="black", linewidth=2.2, label="room walls"))
