@@ -26,6 +26,8 @@ from cage.coils import (
     CoilPair,
     FilamentPack,
     Filaments,
+    check_axis_and_shape,
+    check_turns,
     coil_filaments,
     filaments_field_T,
 )
@@ -135,10 +137,7 @@ def check_coil_axis(ax: CoilAxis) -> CoilAxis:
     """Raise InputError (one line naming the axis and the coil) unless ``ax`` is usable."""
     if not isinstance(ax, CoilAxis):
         raise InputError(f"expected a CoilAxis, got {type(ax).__name__}")
-    if ax.axis not in AXES:
-        raise InputError(f"coil axis must be one of {AXES}, got {ax.axis!r}")
-    if ax.shape not in SHAPES:
-        raise InputError(f"axis {ax.axis}: coil shape must be one of {SHAPES}, got {ax.shape!r}")
+    check_axis_and_shape(ax.axis, ax.shape, "coil axis")
     if ax.system not in SYSTEM_NAMES:
         raise InputError(f"axis {ax.axis}: system must be one of {SYSTEM_NAMES}, got {ax.system!r}")
     if not ax.coils:
@@ -150,9 +149,7 @@ def check_coil_axis(ax: CoilAxis) -> CoilAxis:
             raise InputError(f"axis {ax.axis}: coil {k} position_m must be a finite number, got {c.position_m!r}")
         if not _number(c.size_m) or not math.isfinite(c.size_m) or c.size_m <= 0:
             raise InputError(f"axis {ax.axis}: coil {k} size must be a positive finite number, got {c.size_m!r}")
-        ok = isinstance(c.turns, (int, np.integer)) and not isinstance(c.turns, bool)
-        if not ok or c.turns < 1:
-            raise InputError(f"axis {ax.axis}: coil {k} turns must be a whole number of at least 1, got {c.turns!r}")
+        check_turns(c.turns, f"axis {ax.axis}: coil {k} turns")
     return ax
 
 

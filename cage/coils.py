@@ -104,20 +104,30 @@ def check_pair(pair: CoilPair) -> CoilPair:
     """Raise InputError (one line naming the axis and field) unless ``pair`` is usable."""
     if not isinstance(pair, CoilPair):
         raise InputError(f"expected a CoilPair, got {type(pair).__name__}")
-    if pair.axis not in AXES:
-        raise InputError(f"coil pair axis must be one of {AXES}, got {pair.axis!r}")
-    if pair.shape not in SHAPES:
-        raise InputError(f"axis {pair.axis}: coil shape must be one of {SHAPES}, got {pair.shape!r}")
+    check_axis_and_shape(pair.axis, pair.shape, "coil pair axis")
     for name in ("size_m", "spacing_m"):
         value = getattr(pair, name)
         ok = isinstance(value, (int, float, np.integer, np.floating)) and not isinstance(value, bool)
         if not ok or not math.isfinite(value) or value <= 0:
             raise InputError(f"axis {pair.axis}: {name} must be a positive finite number, got {value!r}")
-    turns = pair.turns
+    check_turns(pair.turns, f"axis {pair.axis}: turns")
+    return pair
+
+
+def check_axis_and_shape(axis, shape, what: str) -> None:
+    """Raise InputError unless ``axis`` is one of AXES and ``shape`` one of SHAPES; ``what``
+    names the axis field in the message ("coil pair axis", "coil axis")."""
+    if axis not in AXES:
+        raise InputError(f"{what} must be one of {AXES}, got {axis!r}")
+    if shape not in SHAPES:
+        raise InputError(f"axis {axis}: coil shape must be one of {SHAPES}, got {shape!r}")
+
+
+def check_turns(turns, where: str) -> None:
+    """Raise InputError unless ``turns`` is a whole number (not a bool) of at least 1."""
     ok = isinstance(turns, (int, np.integer)) and not isinstance(turns, bool)
     if not ok or turns < 1:
-        raise InputError(f"axis {pair.axis}: turns must be a whole number of at least 1, got {turns!r}")
-    return pair
+        raise InputError(f"{where} must be a whole number of at least 1, got {turns!r}")
 
 
 def check_cage(cage: CoilCage) -> CoilCage:
