@@ -22,7 +22,6 @@ import numpy as np
 
 from cage.coils import (
     AXES,
-    SHAPES,
     CoilPair,
     FilamentPack,
     Filaments,
