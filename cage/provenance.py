@@ -21,6 +21,7 @@ import json
 from dataclasses import dataclass, field
 
 from cage.errors import InputError
+from cage.numberformat import latitude_text, longitude_text
 
 #: Version of the provenance object inside the files.
 PROVENANCE_VERSION = 1
@@ -189,8 +190,8 @@ def header_lines(prov: Provenance | dict, prefix: str = "# ") -> list[str]:
     d = prov.as_dict() if isinstance(prov, Provenance) else dict(prov)
     s = d.get("site") or {}
     lines = [
-        f"site: {_one_line(s.get('name', ''))} at {float(s.get('latitude_deg', 0.0)):.5f} deg N, "
-        f"{float(s.get('longitude_deg', 0.0)):.5f} deg E, {float(s.get('altitude_m', 0.0)):.0f} m (WGS84)",
+        f"site: {_one_line(s.get('name', ''))} at {latitude_text(float(s.get('latitude_deg', 0.0)), 5)}, "
+        f"{longitude_text(float(s.get('longitude_deg', 0.0)), 5)}, {float(s.get('altitude_m', 0.0)):.0f} m (WGS84)",
         f"model: {_one_line(d.get('model', ''))} for {_one_line(d.get('model_date', ''))} "
         f"({_one_line(d.get('model_library', ''))}); written by {_one_line(d.get('tool', ''))}",
     ]
