@@ -457,15 +457,215 @@ def _chunked(pts: np.ndarray, chunk_points: int, accumulate) -> np.ndarray:
     return out
 
 
+def _uniform_or_column(values: np.ndarray):
+    """A per-source column (s,) as one float when every source has the same value (so the
+    numeric cores skip zeros and units and keep per-point shapes), else as an (s, 1) array."""
+    first = float(values[0])
+    return first if np.all(values == first) else values[:, None]
+
+
+def _polygon_batch(x, y, z, vertices, units, lengths, currents_A, bx, by, bz):
+    """Add the fields of s closed polygons of k vertices with the same edge pattern.
+
+    vertices: (s, k, 3) m; units: (s, k, 3) edge unit vectors (as ``_polygon_setup``),
+    lengths: (s, k) m, currents_A: (s,). The same kernel as ``_polygon_chunk`` evaluated on
+    (s, n) arrays (per-source values broadcast against the points); a point within ON_WIRE_M
+    of a polygon gets nothing from that polygon.
+    """
+    s, k = lengths.shape
+    coef = (MU0_T_M_PER_A / (4.0 * math.pi)) * currents_A[:, None]
+    pts = (x, y, z)
+
+    def rel(j):
+        comps = []
+        for c in range(3):
+            v = _uniform_or_column(vertices[:, j, c])
+            if isinstance(v, float):
+                comps.append(pts[c] - v if v != 0.0 else pts[c])
+            else:
+                comps.append(pts[c] - v)
+        rsq = _sumsq(comps)
+        return tuple(comps), rsq, np.sqrt(rsq)
+
+    first = rel(0)
+    cur = first
+    acc = [None, None, None]
+    near_all = None
+    for i in range(k):
+        nxt = first if i + 1 == k else rel(i + 1)
+        length = _uniform_or_column(lengths[:, i])
+        if isinstance(length, float) and length == 0.0:
+            cur = nxt
+            continue
+        unit = tuple(_uniform_or_column(units[:, i, c]) for c in range(3))
+        f, cross, near = _segment_core(cur[0], cur[1], cur[2], nxt[1], nxt[2], unit, length, coef)
+        if near is not None:
+            near_all = near if near_all is None else (near_all | near)
+        for c in range(3):
+            if cross[c] is None:
+                continue
+            term = f * cross[c]
+            acc[c] = term if acc[c] is None else acc[c] + term
+        cur = nxt
+    for target, a in zip((bx, by, bz), acc):
+        if a is None:
+            continue
+        if a.shape != (s, x.size):  # f carries the per-source coef, so this is only a safeguard
+            a = np.broadcast_to(a, (s, x.size)).copy()
+        if near_all is not None:
+            a[np.broadcast_to(near_all, a.shape)] = 0.0
+        target += np.add.reduce(a, axis=0)
+
+
+def _loop_batch(x, y, z, centres, normals, radii, currents_A, bx, by, bz):
+    """Add the fields of s circular loops: centres (s, 3) m, normals (s, 3) unit, radii (s,) m,
+    currents (s,) A. The same kernel as ``_loop_core`` (``_loop_local``) evaluated on (s, n)
+    arrays; coaxial loops share their per-point distances from the axis."""
+    s = radii.shape[0]
+    pts = (x, y, z)
+    X = []
+    for c in range(3):
+        v = _uniform_or_column(centres[:, c])
+        if isinstance(v, float):
+            X.append(pts[c] - v if v != 0.0 else pts[c])
+        else:
+            X.append(pts[c] - v)
+    n = tuple(_uniform_or_column(normals[:, c]) for c in range(3))
+    zl = _lin(n, X)
+    rho_v = []
+    for i in range(3):
+        if isinstance(n[i], np.ndarray):
+            rho_v.append(X[i] - n[i] * zl)
+        elif n[i] == 0.0:
+            rho_v.append(X[i])
+        elif abs(n[i]) == 1.0:
+            rho_v.append(None)
+        else:
+            rho_v.append(X[i] - n[i] * zl)
+    rho2 = _sumsq(rho_v)
+    if rho2 is None:
+        rho2 = np.zeros_like(zl)
+    shape = (s, x.size)
+    R = _uniform_or_column(radii)
+    coef = _uniform_or_column((MU0_T_M_PER_A / math.pi) * currents_A)
+    flat = lambda v: v if isinstance(v, float) else np.broadcast_to(v, shape).ravel()  # noqa: E731
+    bzl, brho_over_rho = _loop_local(flat(zl), flat(rho2), flat(R), flat(coef))
+    bzl = bzl.reshape(shape)
+    brho_over_rho = brho_over_rho.reshape(shape)
+    comps = (bx, by, bz)
+    bzl_sum = None
+    brho_sum = None
+    for i in range(3):
+        target = comps[i]
+        if isinstance(n[i], np.ndarray):
+            target += np.add.reduce(n[i] * bzl, axis=0)
+        elif n[i] != 0.0:
+            if bzl_sum is None:
+                bzl_sum = np.add.reduce(bzl, axis=0)
+            _acc(target, n[i], bzl_sum)
+        rv = rho_v[i]
+        if rv is None:
+            continue
+        if rv.ndim == 1:  # the same for every loop of the batch (coaxial loops)
+            if brho_sum is None:
+                brho_sum = np.add.reduce(brho_over_rho, axis=0)
+            target += brho_sum * rv
+        else:
+            target += np.add.reduce(brho_over_rho * rv, axis=0)
+
+
+BATCH_ELEMENTS = 16384
+"""Source-point pairs of one batched evaluation (``_polygon_batch``, ``_loop_batch``): bounds
+the working memory (a few dozen arrays of this many elements) and keeps them in cache."""
+
+BATCH_MIN_SOURCES = 2
+"""Sources of one kind (loops; polygons of one vertex count) from which they are evaluated as
+batches, when at least two sources fit in one batch with a chunk of points; otherwise one
+at a time (``_polygon_chunk``, ``_loop_core``), which is as fast there."""
+
+
+def _polygon_arrays(polygons):
+    """Polygons stacked by vertex count: [(vertices (s, k, 3), units (s, k, 3), lengths (s, k),
+    currents (s,))], the edges as ``_polygon_setup`` gives them."""
+    by_k: dict[int, list] = {}
+    for p in polygons:
+        by_k.setdefault(p.vertices_m.shape[0], []).append(p)
+    out = []
+    for items in by_k.values():
+        verts = np.stack([p.vertices_m for p in items])
+        edges = np.roll(verts, -1, axis=1) - verts
+        lengths = np.sqrt(np.einsum("sij,sij->si", edges, edges))
+        units = np.zeros_like(edges)
+        ok = lengths > 0
+        units[ok] = edges[ok] / lengths[ok][:, None]
+        # as _polygon_setup: rounding noise of axis-aligned edges becomes exact 0 / +-1
+        units[np.abs(units) < 1e-15] = 0.0
+        unit_like = np.abs(np.abs(units) - 1.0) < 1e-15
+        units[unit_like] = np.sign(units[unit_like])
+        out.append((verts, units, lengths, np.array([p.current_A for p in items])))
+    return out
+
+
+def _batches(keys, pools, min_sources):
+    """Split sources into batches: sources with equal ``keys`` (the same normal, or the same
+    edge directions) from ``min_sources`` up; the rest pooled by ``pools`` (sources that may
+    share a batch with per-source directions), a pool from ``min_sources`` up; what remains
+    goes one at a time. Returns (list of index arrays, list of single indices)."""
+    by_key: dict = {}
+    for j, key in enumerate(keys):
+        by_key.setdefault(key, []).append(j)
+    batches, rest = [], {}
+    for idx in by_key.values():
+        if len(idx) >= min_sources:
+            batches.append(np.array(idx))
+        else:
+            for j in idx:
+                rest.setdefault(pools[j], []).append(j)
+    singles = []
+    for idx in rest.values():
+        if len(idx) >= min_sources:
+            batches.append(np.array(sorted(idx)))
+        else:
+            singles.extend(idx)
+    return batches, singles
+
+
 def _evaluate(pts: np.ndarray, polygons: Sequence[Polygon], loops: Sequence[Loop],
               chunk_points: int) -> np.ndarray:
-    setups = [(p.vertices_m, *_polygon_setup(p.vertices_m, True), p.current_A)
-              for p in polygons if p.current_A != 0.0]
+    # Many sources at a few hundred points (the winding-pack check): batches of sources
+    # evaluated together on (sources x points) arrays; many points: one source at a time.
+    batched = BATCH_ELEMENTS // max(1, min(pts.shape[0], chunk_points)) >= 2
+    min_sources = BATCH_MIN_SOURCES if batched else math.inf
+    poly_batches, setups = [], []
+    for verts, units, lengths, currents in _polygon_arrays([p for p in polygons if p.current_A != 0.0]):
+        # the edge directions fix which edges have zero length (skipped), so pools are by those
+        idx_b, idx_s = _batches([u.tobytes() for u in units], [(lg > 0).tobytes() for lg in lengths],
+                                min_sources)
+        poly_batches += [(verts[i], units[i], lengths[i], currents[i]) for i in idx_b]
+        setups += [(verts[j], *_polygon_setup(verts[j], True), float(currents[j])) for j in idx_s]
     loop_list = [lp for lp in loops if lp.current_A != 0.0]
-    if pts.shape[0] == 0 or (not setups and not loop_list):
+    loop_batches = []
+    if len(loop_list) >= min_sources:
+        centres = np.array([lp.centre_m for lp in loop_list])
+        normals = np.array([lp.normal for lp in loop_list])
+        radii = np.array([lp.radius_m for lp in loop_list])
+        currents = np.array([lp.current_A for lp in loop_list])
+        idx_b, idx_s = _batches([v.tobytes() for v in normals], [None] * len(loop_list), min_sources)
+        loop_batches = [(centres[i], normals[i], radii[i], currents[i]) for i in idx_b]
+        loop_list = [loop_list[j] for j in idx_s]
+    if pts.shape[0] == 0 or not (setups or loop_list or poly_batches or loop_batches):
         return np.zeros((pts.shape[0], 3))
 
     def accumulate(x, y, z, bx, by, bz):
+        step = max(1, BATCH_ELEMENTS // x.size)
+        for verts, units, lengths, currents in poly_batches:
+            for s in range(0, len(currents), step):
+                e = s + step
+                _polygon_batch(x, y, z, verts[s:e], units[s:e], lengths[s:e], currents[s:e], bx, by, bz)
+        for centres, normals, radii, currents in loop_batches:
+            for s in range(0, len(currents), step):
+                e = s + step
+                _loop_batch(x, y, z, centres[s:e], normals[s:e], radii[s:e], currents[s:e], bx, by, bz)
         for verts, units, lengths, cur in setups:
             _polygon_chunk(x, y, z, verts, units, lengths, cur, bx, by, bz)
         for lp in loop_list:
