@@ -50,9 +50,18 @@ contribution from that filament (the thin-wire field is infinite there; the othe
 still count). A filament is a whole polygon, a whole loop, or one lone segment of
 ``segment_field_T``. The result is always finite, and no floating-point warning is raised.
 
+Batches. Many sources at a few hundred points (a winding pack modelled as one filament per
+turn: hundreds of coaxial loops or polygons at the planner's ~400 test points) are evaluated
+together: loops with the same normal, polygons with the same vertex count and edge directions
+(then those with different directions together, directions per source), as (sources x
+points) arrays of at most ``BATCH_ELEMENTS`` elements, with the same kernels, the same
+on-wire rule per source and results equal to the one-at-a-time path to rounding (the sum runs
+over sources in another order). Few sources, or many points (a chunk of points fills a
+batch alone), go one source at a time.
+
 Memory. Points are processed in chunks of ``CHUNK_POINTS``; the working set is a few dozen
-arrays of that length whatever the number of points or sources, so a million points take the
-(n, 3) input and output plus a few megabytes.
+arrays of that length (or of ``BATCH_ELEMENTS``) whatever the number of points or sources, so
+a million points take the (n, 3) input and output plus a few megabytes.
 """
 from __future__ import annotations
 
@@ -465,14 +474,16 @@ def _uniform_or_column(values: np.ndarray):
 
 
 def _polygon_batch(x, y, z, vertices, units, lengths, currents_A, bx, by, bz):
-    """Add the fields of s closed polygons of k vertices with the same edge pattern.
+    """Add the fields of s closed polygons of k vertices, zero-length edges at the same places.
 
     vertices: (s, k, 3) m; units: (s, k, 3) edge unit vectors (as ``_polygon_setup``),
-    lengths: (s, k) m, currents_A: (s,). The same kernel as ``_polygon_chunk`` evaluated on
-    (s, n) arrays (per-source values broadcast against the points); a point within ON_WIRE_M
-    of a polygon gets nothing from that polygon.
+    lengths: (s, k) m, currents_A: (s,). A vertex coordinate, edge direction component or
+    length shared by all s polygons stays one number (zeros and units skipped as in the
+    single-polygon path, arrays kept per point); the rest are (s, 1) columns. The same
+    kernel as ``_polygon_chunk`` evaluated on (s, n) arrays (per-source values broadcast
+    against the points); a point within ON_WIRE_M of a polygon gets nothing from it.
     """
-    s, k = lengths.shape
+    k = lengths.shape[1]
     coef = (MU0_T_M_PER_A / (4.0 * math.pi)) * currents_A[:, None]
     pts = (x, y, z)
 
@@ -510,8 +521,7 @@ def _polygon_batch(x, y, z, vertices, units, lengths, currents_A, bx, by, bz):
     for target, a in zip((bx, by, bz), acc):
         if a is None:
             continue
-        if a.shape != (s, x.size):  # f carries the per-source coef, so this is only a safeguard
-            a = np.broadcast_to(a, (s, x.size)).copy()
+        # f carries the per-source coef, so a is (s, n) even where the geometry is shared
         if near_all is not None:
             a[np.broadcast_to(near_all, a.shape)] = 0.0
         target += np.add.reduce(a, axis=0)
@@ -582,6 +592,23 @@ BATCH_MIN_SOURCES = 2
 """Sources of one kind (loops; polygons of one vertex count) from which they are evaluated as
 batches, when at least two sources fit in one batch with a chunk of points; otherwise one
 at a time (``_polygon_chunk``, ``_loop_core``), which is as fast there."""
+
+
+_HEAP_BLOCK = 1 << 20
+
+
+def _keep_heap() -> None:
+    """Ask the C allocator to keep the batches' working memory between batches.
+
+    The batches allocate and free a few megabytes of temporaries each (dozens of arrays of
+    ``BATCH_ELEMENTS`` doubles). glibc returns freed memory at the top of its heap to the
+    system once it exceeds the trim threshold (128 KiB by default), so every batch would fault
+    its pages in again, which costs more than the arithmetic. Freeing one block large enough
+    to have been mapped on its own raises that threshold to twice the block's size (glibc's
+    dynamic mmap threshold, mallopt(3)); the block is never touched. Other allocators ignore it.
+    """
+    block = np.empty(_HEAP_BLOCK)
+    del block
 
 
 def _polygon_arrays(polygons):
@@ -655,6 +682,8 @@ def _evaluate(pts: np.ndarray, polygons: Sequence[Polygon], loops: Sequence[Loop
         loop_list = [loop_list[j] for j in idx_s]
     if pts.shape[0] == 0 or not (setups or loop_list or poly_batches or loop_batches):
         return np.zeros((pts.shape[0], 3))
+    if poly_batches or loop_batches:
+        _keep_heap()
 
     def accumulate(x, y, z, bx, by, bz):
         step = max(1, BATCH_ELEMENTS // x.size)
