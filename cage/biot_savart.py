@@ -466,57 +466,66 @@ def _chunked(pts: np.ndarray, chunk_points: int, accumulate) -> np.ndarray:
     return out
 
 
-def _uniform_or_column(values: np.ndarray):
-    """A per-source column (s,) as one float when every source has the same value (so the
-    numeric cores skip zeros and units and keep per-point shapes), else as an (s, 1) array."""
-    first = float(values[0])
-    return first if np.all(values == first) else values[:, None]
+def _columns(values: np.ndarray) -> list:
+    """Per-source values (s, m) as m entries: one float where all s sources share the value
+    (so the numeric cores skip zeros and units and keep per-point shapes), else an (s, 1)
+    column broadcast against the points."""
+    shared = np.all(values == values[:1], axis=0).tolist()
+    first = values[0].tolist()
+    return [first[i] if shared[i] else values[:, i:i + 1] for i in range(values.shape[1])]
 
 
-def _polygon_batch(x, y, z, vertices, units, lengths, currents_A, bx, by, bz):
-    """Add the fields of s closed polygons of k vertices, zero-length edges at the same places.
+def _polygon_batch_setup(vertices, units, lengths, currents_A):
+    """Set-up of a batch of s closed polygons of k vertices, zero-length edges at the same places.
 
     vertices: (s, k, 3) m; units: (s, k, 3) edge unit vectors (as ``_polygon_setup``),
-    lengths: (s, k) m, currents_A: (s,). A vertex coordinate, edge direction component or
-    length shared by all s polygons stays one number (zeros and units skipped as in the
-    single-polygon path, arrays kept per point); the rest are (s, 1) columns. The same
-    kernel as ``_polygon_chunk`` evaluated on (s, n) arrays (per-source values broadcast
-    against the points); a point within ON_WIRE_M of a polygon gets nothing from it.
+    lengths: (s, k) m, currents_A: (s,) A. Returns (vertex columns (k x 3), edges (k entries:
+    (unit, length) or None for a zero-length edge), coef (s, 1) = mu0 I / (4 pi)); see
+    ``_columns``.
     """
-    k = lengths.shape[1]
+    s, k = lengths.shape
+    cols = _columns(vertices.reshape(s, 3 * k))
+    verts = [tuple(cols[3 * j:3 * j + 3]) for j in range(k)]
+    unit_cols = _columns(units.reshape(s, 3 * k))
+    length_cols = _columns(lengths)
+    edges = [None if (isinstance(length_cols[i], float) and length_cols[i] == 0.0)
+             else (tuple(unit_cols[3 * i:3 * i + 3]), length_cols[i]) for i in range(k)]
     coef = (MU0_T_M_PER_A / (4.0 * math.pi)) * currents_A[:, None]
+    return verts, edges, coef
+
+
+def _batch_rel(pts, v):
+    """Per-point (or per source and point) offsets from a vertex given as ``_columns`` entries."""
+    comps = tuple(p - c if (not isinstance(c, float) or c != 0.0) else p for p, c in zip(pts, v))
+    rsq = _sumsq(comps)
+    return comps, rsq, np.sqrt(rsq)
+
+
+def _polygon_batch(x, y, z, setup, bx, by, bz):
+    """Add the fields of a batch of polygons (``_polygon_batch_setup``) to bx, by, bz.
+
+    The same kernel as ``_polygon_chunk`` evaluated on (s, n) arrays (per-source values
+    broadcast against the points); a point within ON_WIRE_M of a polygon gets nothing from it.
+    """
+    verts, edges, coef = setup
     pts = (x, y, z)
-
-    def rel(j):
-        comps = []
-        for c in range(3):
-            v = _uniform_or_column(vertices[:, j, c])
-            if isinstance(v, float):
-                comps.append(pts[c] - v if v != 0.0 else pts[c])
-            else:
-                comps.append(pts[c] - v)
-        rsq = _sumsq(comps)
-        return tuple(comps), rsq, np.sqrt(rsq)
-
-    first = rel(0)
+    k = len(verts)
+    first = _batch_rel(pts, verts[0])
     cur = first
     acc = [None, None, None]
     near_all = None
     for i in range(k):
-        nxt = first if i + 1 == k else rel(i + 1)
-        length = _uniform_or_column(lengths[:, i])
-        if isinstance(length, float) and length == 0.0:
-            cur = nxt
-            continue
-        unit = tuple(_uniform_or_column(units[:, i, c]) for c in range(3))
-        f, cross, near = _segment_core(cur[0], cur[1], cur[2], nxt[1], nxt[2], unit, length, coef)
-        if near is not None:
-            near_all = near if near_all is None else (near_all | near)
-        for c in range(3):
-            if cross[c] is None:
-                continue
-            term = f * cross[c]
-            acc[c] = term if acc[c] is None else acc[c] + term
+        nxt = first if i + 1 == k else _batch_rel(pts, verts[i + 1])
+        if edges[i] is not None:
+            unit, length = edges[i]
+            f, cross, near = _segment_core(cur[0], cur[1], cur[2], nxt[1], nxt[2], unit, length, coef)
+            if near is not None:
+                near_all = near if near_all is None else (near_all | near)
+            for c in range(3):
+                if cross[c] is None:
+                    continue
+                term = f * cross[c]
+                acc[c] = term if acc[c] is None else acc[c] + term
         cur = nxt
     for target, a in zip((bx, by, bz), acc):
         if a is None:
@@ -527,20 +536,20 @@ def _polygon_batch(x, y, z, vertices, units, lengths, currents_A, bx, by, bz):
         target += np.add.reduce(a, axis=0)
 
 
-def _loop_batch(x, y, z, centres, normals, radii, currents_A, bx, by, bz):
-    """Add the fields of s circular loops: centres (s, 3) m, normals (s, 3) unit, radii (s,) m,
-    currents (s,) A. The same kernel as ``_loop_core`` (``_loop_local``) evaluated on (s, n)
-    arrays; coaxial loops share their per-point distances from the axis."""
-    s = radii.shape[0]
-    pts = (x, y, z)
-    X = []
-    for c in range(3):
-        v = _uniform_or_column(centres[:, c])
-        if isinstance(v, float):
-            X.append(pts[c] - v if v != 0.0 else pts[c])
-        else:
-            X.append(pts[c] - v)
-    n = tuple(_uniform_or_column(normals[:, c]) for c in range(3))
+def _loop_batch_setup(centres, normals, radii, currents_A):
+    """Set-up of a batch of s circular loops: centres (s, 3) m, normals (s, 3) unit, radii (s,) m,
+    currents (s,) A. Returns (s, centre columns, normal columns, radius, coef = mu0 I / pi),
+    each a float where shared by all s loops, else an (s, 1) column (``_columns``)."""
+    R, coef = _columns(np.column_stack([radii, (MU0_T_M_PER_A / math.pi) * currents_A]))
+    return radii.shape[0], tuple(_columns(centres)), tuple(_columns(normals)), R, coef
+
+
+def _loop_batch(x, y, z, setup, bx, by, bz):
+    """Add the fields of a batch of loops (``_loop_batch_setup``) to bx, by, bz: the same kernel
+    as ``_loop_core`` (``_loop_local``) evaluated on (s, n) arrays; coaxial loops share their
+    per-point distances from the axis."""
+    s, centre, n, R, coef = setup
+    X = _batch_rel((x, y, z), centre)[0]
     zl = _lin(n, X)
     rho_v = []
     for i in range(3):
@@ -556,8 +565,6 @@ def _loop_batch(x, y, z, centres, normals, radii, currents_A, bx, by, bz):
     if rho2 is None:
         rho2 = np.zeros_like(zl)
     shape = (s, x.size)
-    R = _uniform_or_column(radii)
-    coef = _uniform_or_column((MU0_T_M_PER_A / math.pi) * currents_A)
     flat = lambda v: v if isinstance(v, float) else np.broadcast_to(v, shape).ravel()  # noqa: E731
     bzl, brho_over_rho = _loop_local(flat(zl), flat(rho2), flat(R), flat(coef))
     bzl = bzl.reshape(shape)
@@ -661,7 +668,8 @@ def _evaluate(pts: np.ndarray, polygons: Sequence[Polygon], loops: Sequence[Loop
               chunk_points: int) -> np.ndarray:
     # Many sources at a few hundred points (the winding-pack check): batches of sources
     # evaluated together on (sources x points) arrays; many points: one source at a time.
-    batched = BATCH_ELEMENTS // max(1, min(pts.shape[0], chunk_points)) >= 2
+    step = max(1, BATCH_ELEMENTS // max(1, min(pts.shape[0], chunk_points)))  # sources per batch
+    batched = step >= 2
     min_sources = BATCH_MIN_SOURCES if batched else math.inf
     poly_batches, setups = [], []
     for verts, units, lengths, currents in _polygon_arrays([p for p in polygons if p.current_A != 0.0]):
@@ -685,16 +693,18 @@ def _evaluate(pts: np.ndarray, polygons: Sequence[Polygon], loops: Sequence[Loop
     if poly_batches or loop_batches:
         _keep_heap()
 
+    poly_setups = [_polygon_batch_setup(verts[i:i + step], units[i:i + step], lengths[i:i + step],
+                                        currents[i:i + step])
+                   for verts, units, lengths, currents in poly_batches for i in range(0, len(currents), step)]
+    loop_setups = [_loop_batch_setup(centres[i:i + step], normals[i:i + step], radii[i:i + step],
+                                     currents[i:i + step])
+                   for centres, normals, radii, currents in loop_batches for i in range(0, len(currents), step)]
+
     def accumulate(x, y, z, bx, by, bz):
-        step = max(1, BATCH_ELEMENTS // x.size)
-        for verts, units, lengths, currents in poly_batches:
-            for s in range(0, len(currents), step):
-                e = s + step
-                _polygon_batch(x, y, z, verts[s:e], units[s:e], lengths[s:e], currents[s:e], bx, by, bz)
-        for centres, normals, radii, currents in loop_batches:
-            for s in range(0, len(currents), step):
-                e = s + step
-                _loop_batch(x, y, z, centres[s:e], normals[s:e], radii[s:e], currents[s:e], bx, by, bz)
+        for setup in poly_setups:
+            _polygon_batch(x, y, z, setup, bx, by, bz)
+        for setup in loop_setups:
+            _loop_batch(x, y, z, setup, bx, by, bz)
         for verts, units, lengths, cur in setups:
             _polygon_chunk(x, y, z, verts, units, lengths, cur, bx, by, bz)
         for lp in loop_list:
