@@ -104,7 +104,7 @@ def _as_vector(value, what: str) -> np.ndarray:
     arr = np.asarray(value, dtype=float)
     if arr.shape != (3,):
         raise ValueError(f"{what} must be a 3-vector, got shape {arr.shape}")
-    if not np.all(np.isfinite(arr)):
+    if not all(map(math.isfinite, arr.tolist())):  # per element: cheaper than numpy for 3 numbers
         raise ValueError(f"{what} must be finite, got {arr.tolist()}")
     return arr
 
