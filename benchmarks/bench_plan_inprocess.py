@@ -49,7 +49,11 @@ def main() -> None:
     env = dict(os.environ, PYTHONPATH=str(ROOT) + os.pathsep + os.environ.get("PYTHONPATH", ""))
     for systems in ("pair", "pair,three,four,four-equal"):
         done = subprocess.run([sys.executable, "-c", CHILD, args.site, systems, str(args.repeats)],
-                              cwd=ROOT, env=env, capture_output=True, text=True, check=True)
+                              cwd=ROOT, env=env, capture_output=True, text=True)
+        if done.returncode != 0:
+            last = (done.stderr.strip().splitlines() or ["no message"])[-1]
+            print(f"systems {systems:28s} not planned: {last}")
+            continue
         r = json.loads(done.stdout.strip().splitlines()[-1])
         print(f"systems {systems:28s} cold CPU {r['cold_cpu']:6.3f} s wall {r['cold_wall']:6.3f} s | "
               f"warm CPU {r['warm_cpu']:6.3f} s wall {r['warm_wall']:6.3f} s (median of {args.repeats})")
