@@ -29,8 +29,8 @@ Two kernels, one per source, each a numeric core with the input checks kept apar
 
   (R loop radius, rho and z the cylindrical coordinates of the point about the loop's axis,
   r^2 = rho^2 + z^2, a^2 = (R - rho)^2 + z^2, b^2 = (R + rho)^2 + z^2, m = k^2 = 4 R rho / b^2,
-  K, E complete elliptic integrals of parameter m: scipy.special.ellipkm1 (of 1 - m = a^2/b^2,
-  accurate next to the wire) and scipy.special.ellipe). Evaluated as written these lose
+  K, E complete elliptic integrals of parameter m, from 1 - m = a^2/b^2 (accurate next to the
+  wire) by the arithmetic-geometric mean, ``cage.elliptic``). Evaluated as written these lose
   digits near the axis and far away (catastrophic cancellation, see M. Ortner et al.,
   Magnetism 3, 11 (2023)); our rewrite keeps full precision. The radial bracket equals b^2 F(m),
   F(m) = (1 - m/2) E(m) - (1 - m) K(m) = (3 pi / 32) m^2 (1 + O(m)), so with J(m) = F(m)/m^2::
@@ -71,6 +71,8 @@ from fractions import Fraction
 from typing import Sequence
 
 import numpy as np
+
+from cage.elliptic import complete_K_E
 
 # Vacuum permeability, T m / A: CODATA 2022 (NIST), the value of scipy.constants.mu_0 in
 # scipy 1.15 and later; written here so that importing the field engine does not import
@@ -370,9 +372,8 @@ def _loop_local(zl, rho2, R, coef):
     b2 = (R + rho) ** 2 + z2
     beta = np.sqrt(b2)
     m = (4.0 * R) * rho / b2
-    from scipy.special import ellipe, ellipkm1  # only round coils need it: imported on first use
-
-    E = ellipe(m)
+    p = a2 / b2  # 1 - m, with full precision next to the wire
+    K, E = complete_K_E(p)
     common = (coef * R * R) / (a2 * beta)
     g = np.empty_like(m)  # 8 J / b^2
     bzl = np.empty_like(m)
@@ -386,9 +387,9 @@ def _loop_local(zl, rho2, R, coef):
     if n_small < m.size:
         idx = slice(None) if n_small == 0 else np.flatnonzero(~small)
         mb = m[idx]
-        pb = a2[idx] / b2[idx]
+        pb = p[idx]
         Eb = E[idx]
-        Kb = ellipkm1(pb)
+        Kb = K[idx]
         a2b = a2[idx]
         g[idx] = 8.0 * ((1.0 - 0.5 * mb) * Eb - pb * Kb) / (mb * mb) / b2[idx]
         rb = rho[idx]

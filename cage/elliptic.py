@@ -27,9 +27,11 @@ _MAX_ROUNDS = 40
 def complete_K_E(p) -> tuple[np.ndarray, np.ndarray]:
     """(K, E) at m = 1 - p for an array p in (0, 1] (p = 0: K = inf, E = 1)."""
     p = np.asarray(p, dtype=float)
-    a = np.ones_like(p)
-    b = np.sqrt(p)
-    c2 = 1.0 - p  # c_0^2 = m
+    zero = p <= 0.0  # on the wire: set apart, so the rounds converge everywhere else
+    q = np.where(zero, 1.0, p)
+    a = np.ones_like(q)
+    b = np.sqrt(q)
+    c2 = 1.0 - q  # c_0^2 = m
     total = 0.5 * c2
     weight = 0.5
     for _ in range(_MAX_ROUNDS):
@@ -39,8 +41,9 @@ def complete_K_E(p) -> tuple[np.ndarray, np.ndarray]:
         a, b = 0.5 * (a + b), np.sqrt(a * b)
         weight *= 2.0
         total = total + weight * c * c
-    with np.errstate(divide="ignore", invalid="ignore"):
-        K = math.pi / (2.0 * a)
-        E = np.where(p > 0.0, K * (1.0 - total), 1.0)
-    K = np.where(p > 0.0, K, np.inf)
+    K = math.pi / (2.0 * a)
+    E = K * (1.0 - total)
+    if zero.any():
+        K = np.where(zero, np.inf, K)
+        E = np.where(zero, 1.0, E)
     return K, E
