@@ -23,7 +23,8 @@ from cage.coilaxis import AxisCage, CoilAxis
 from cage.coils import AXES, CoilCage, CoilPair
 from cage.errors import InputError
 from cage.fieldfigures import cage_axes, driven_name
-from cage.figurestyle import AXIS_COLOURS, FIG_WIDTH_IN, _FS, _RC, _finish, _new_figure, _three_lengths
+from cage.figurestyle import (AXIS_COLOURS, FIG_WIDTH_IN, _FS, _RC, _finish, _new_figure, _three_lengths, box_at,
+                              extent_in)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -174,13 +175,22 @@ def cage_in_room_figure(cage: CoilCage | AxisCage, frame, room, test_volume_m, h
     span = {0: lim_h[0][1] - lim_h[0][0], 1: lim_h[1][1] - lim_h[1][0], 2: lim_v[1] - lim_v[0]}
 
     width_in = FIG_WIDTH_IN
-    # Panel heights follow the data spans so that every view keeps one scale.
-    usable_w = width_in - 1.0
-    scale_in_per_m = usable_w / (span[0] + span[1])
-    # The legend goes in the top-right cell, the sizes in words in a row below the views.
+    # The views are placed with fixed margins in inches (_ROOM_MARGINS_IN), at one scale
+    # (inches per metre) for all three, so that every view keeps the same scale. The legend goes
+    # in the top-right cell, the sizes in words in a row below the views.
+    left_in, right_in, wgap_in, top_in, gap1_in, gap2_in, bottom_in = _ROOM_MARGINS_IN
     info_h_in = 1.05
-    height_in = float(np.clip(scale_in_per_m * (span[1] + span[2]) + 1.3, 4.5, 9.8)) + info_h_in
-    legend_cols = 2 if usable_w * span[1] / (span[0] + span[1]) >= 2.6 else 1
+    usable_w = width_in - left_in - right_in - wgap_in
+    height_in = float(np.clip(usable_w / (span[0] + span[1]) * (span[1] + span[2])
+                              + top_in + gap1_in + gap2_in + bottom_in, 4.5, 9.8)) + info_h_in
+    usable_h = height_in - info_h_in - top_in - gap1_in - gap2_in - bottom_in
+    scale_in_per_m = min(usable_w / (span[0] + span[1]), usable_h / (span[1] + span[2]))
+    w0, w1 = scale_in_per_m * span[0], scale_in_per_m * span[1]
+    h0, h1 = scale_in_per_m * span[1], scale_in_per_m * span[2]
+    x0 = left_in + (usable_w - w0 - w1) / 2  # the views centred across the width
+    x1 = x0 + w0 + wgap_in
+    y1 = bottom_in + info_h_in + gap2_in + (usable_h - h0 - h1) / 2  # front and side views
+    y0 = y1 + h1 + gap1_in  # top view and legend
 
     pairs = sorted(units, key=lambda p: -p.half_width_m)
     views = {
@@ -190,13 +200,12 @@ def cage_in_room_figure(cage: CoilCage | AxisCage, frame, room, test_volume_m, h
     }
     with matplotlib.rc_context(_RC):
         fig = _new_figure(width_in, height_in)
-        gs = fig.add_gridspec(3, 2, width_ratios=[span[0], span[1]],
-                              height_ratios=[span[1], span[2], info_h_in / scale_in_per_m])
-        ax_top = fig.add_subplot(gs[0, 0])
-        ax_front = fig.add_subplot(gs[1, 0], sharex=ax_top)
-        ax_side = fig.add_subplot(gs[1, 1], sharey=ax_front)
-        ax_legend = fig.add_subplot(gs[0, 1])
-        ax_info = fig.add_subplot(gs[2, :])
+        ax_top = fig.add_axes(box_at(fig, x0, y0, w0, h0))
+        ax_front = fig.add_axes(box_at(fig, x0, y1, w0, h1), sharex=ax_top)
+        ax_side = fig.add_axes(box_at(fig, x1, y1, w1, h1), sharey=ax_front)
+        ax_legend = fig.add_axes(box_at(fig, x1, y0, width_in - right_in - x1, h0))
+        ax_info = fig.add_axes(box_at(fig, left_in, bottom_in, width_in - left_in - right_in, info_h_in))
+        legend_cols = 2 if width_in - right_in - x1 >= 2.6 else 1
         for name, ax in (("top", ax_top), ("front", ax_front), ("side", ax_side)):
             ih, iv, title = views[name]
             # Room and clearance.
@@ -266,8 +275,15 @@ def cage_in_room_figure(cage: CoilCage | AxisCage, frame, room, test_volume_m, h
         _info_panel(ax_info, units, frame, room, env, inner, tv)
         if heading_deg is not None:
             _north_arrow(ax_top, heading_deg)
-        fig.suptitle("The cage in the room", fontsize=_FS["title"])
+        fig.suptitle("The cage in the room", fontsize=_FS["title"], y=1.0 - 0.06 / height_in, va="top")
     return _finish(fig)
+
+
+# Margins of the cage-in-room figure in inches: left (tick labels and y label), right, between
+# the two columns (the side view's y label), top (the title and the first views' titles),
+# between the rows of views (the top view's x label and the front view's title), between the
+# views and the sizes in words, bottom.
+_ROOM_MARGINS_IN = (0.62, 0.1, 0.64, 0.52, 0.66, 0.45, 0.05)
 
 
 def _north_arrow(ax, heading_deg: float) -> None:
@@ -302,8 +318,12 @@ def _legend_panel(ax, units, room, ncol: int) -> None:
         handles.append(Line2D([], [], color="black", linewidth=2.2, label="room walls"))
         handles.append(Line2D([], [], color="0.35", linestyle="--", linewidth=1.0, label="clearance"))
     handles.append(Line2D([], [], color="0.45", linestyle=":", linewidth=1.0, label="envelope"))
-    ax.legend(handles=handles, loc="upper left", ncol=ncol, frameon=False, fontsize=_FS["small"],
-              handlelength=1.6, borderaxespad=0.0)
+    legend = ax.legend(handles=handles, loc="upper left", ncol=ncol, frameon=False, fontsize=_FS["small"],
+                       handlelength=1.6, borderaxespad=0.0)
+    panel_w_in = ax.get_position().width * ax.figure.get_size_inches()[0]
+    if ncol > 1 and extent_in(ax.figure, legend)[0] > panel_w_in:  # too wide for two columns
+        ax.legend(handles=handles, loc="upper left", ncol=1, frameon=False, fontsize=_FS["small"],
+                  handlelength=1.6, borderaxespad=0.0)
     ax.text(0.0, 0.0, "cage frame: x toward the heading,\ny 90° clockwise from x seen from above,\n"
             "z down", transform=ax.transAxes, ha="left", va="bottom", fontsize=_FS["small"],
             color="0.25", linespacing=1.4)
