@@ -243,7 +243,9 @@ def sequence_figure(t_s, currents_A, max_current_A, failing_steps=()) -> Figure:
 
     with matplotlib.rc_context(_RC):
         fig = _new_figure(FIG_WIDTH_IN, 5.8)
-        axes = fig.subplots(3, 1, sharex=True)
+        gs = fig.add_gridspec(3, 1, **grid_box(fig, _SETPOINT_LEFT_IN, 1.6, 0.4, 0.5, nrows=3, hgap_in=0.14))
+        axes = gs.subplots(sharex=True)
+        legends = []
         for j, (ax, a) in enumerate(zip(axes, AXES)):
             colour = AXIS_COLOURS[a]
             if fail.size:
@@ -261,12 +263,18 @@ def sequence_figure(t_s, currents_A, max_current_A, failing_steps=()) -> Figure:
             ax.set_ylim(-top, top)
             ax.set_ylabel(f"{a} current (A)")
             ax.grid(True, linewidth=0.4, alpha=0.5)
-            ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=_FS["small"],
-                      frameon=False)
+            legends.append(ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=_FS["small"],
+                                     frameon=False))
         if t.size > 1:
             axes[0].set_xlim(t[0], t[-1])
         axes[-1].set_xlabel("time (s)")
         axes[0].set_title("Sequence currents and supply limits"
                           + (f": {fail.size} step(s) the supplies cannot follow" if fail.size else ""),
                           fontsize=_FS["title"])
+        # Margins: the legends (right, as measured), the title (top), tick labels and x label.
+        right_in = 0.12 + max(extent_in(fig, legend)[0] for legend in legends) + 0.06
+        top_in = 0.06 + extent_in(fig, axes[0].title)[1] + 0.08
+        gs.update(**grid_box(fig, _SETPOINT_LEFT_IN, right_in, top_in, 0.5, nrows=3, hgap_in=0.14))
+        for ax in axes:  # GridSpec.update moves the axes of pyplot figures only
+            ax.set_position(ax.get_subplotspec().get_position(fig))
     return _finish(fig)
