@@ -122,7 +122,9 @@ def uniformity_maps_figure(cage: CoilCage | AxisCage, test_volume_m, tolerance: 
                 ax.xaxis.set_major_locator(MaxNLocator(nbins=3, symmetric=True))
                 ax.yaxis.set_major_locator(MaxNLocator(nbins=5, symmetric=True))
                 third = AXES[3 - iu - iv]
-                ax.set_title(f"{_map_name(pair)} driven, {third} = 0", fontsize=_FS["base"])
+                # y given: the title sits on the axes' top (no tick labels there); matplotlib then
+                # skips measuring every axis to place it
+                ax.set_title(f"{_map_name(pair)} driven, {third} = 0", fontsize=_FS["base"], y=1.0)
                 ax.set_ylabel(f"{plane[1]} (m)")
                 if r == 2:
                     ax.set_xlabel(f"{plane[0]} (m)")
@@ -241,7 +243,7 @@ def axis_lines_figure(cage: CoilCage | AxisCage, test_volume_m, tolerance: float
                         max(1.5 * tol, float(seen.max()) * 1.05) * scale)
             ax.set_xlim(s[0], s[-1])
             ax.set_ylabel(f"$B_{pair.axis}/B_{pair.axis}(0) - 1$ ({unit})")
-            ax.set_title(_line_title(pair), fontsize=_FS["base"])
+            ax.set_title(_line_title(pair), fontsize=_FS["base"], y=1.0)  # y given: no auto placement
             ax.grid(True, linewidth=0.4, alpha=0.5)
         handles, labels = axes[0].get_legend_handles_labels()
         handles.append(Line2D([], [], color="0.25", linestyle=(0, (4, 3)), linewidth=0.9))

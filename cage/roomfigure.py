@@ -254,7 +254,7 @@ def cage_in_room_figure(cage: CoilCage | AxisCage, frame, room, test_volume_m, h
             else:
                 ax.set_ylim(*lim_h[iv])
             ax.set_aspect("equal", adjustable="box")
-            ax.set_title(title, fontsize=_FS["base"])
+            ax.set_title(title, fontsize=_FS["base"], y=1.0)  # y given: no auto placement (costly)
             ax.set_xlabel(f"{AXES[ih]} (m)")
             ax.set_ylabel(f"{AXES[iv]} (m)" if iv != 2 else
                           ("height above floor (m)" if room is not None
