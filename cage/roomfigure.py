@@ -181,16 +181,7 @@ def cage_in_room_figure(cage: CoilCage | AxisCage, frame, room, test_volume_m, h
     left_in, right_in, wgap_in, top_in, gap1_in, gap2_in, bottom_in = _ROOM_MARGINS_IN
     info_h_in = 1.05
     usable_w = width_in - left_in - right_in - wgap_in
-    height_in = float(np.clip(usable_w / (span[0] + span[1]) * (span[1] + span[2])
-                              + top_in + gap1_in + gap2_in + bottom_in, 4.5, 9.8)) + info_h_in
-    usable_h = height_in - info_h_in - top_in - gap1_in - gap2_in - bottom_in
-    scale_in_per_m = min(usable_w / (span[0] + span[1]), usable_h / (span[1] + span[2]))
-    w0, w1 = scale_in_per_m * span[0], scale_in_per_m * span[1]
-    h0, h1 = scale_in_per_m * span[1], scale_in_per_m * span[2]
-    x0 = left_in + (usable_w - w0 - w1) / 2  # the views centred across the width
-    x1 = x0 + w0 + wgap_in
-    y1 = bottom_in + info_h_in + gap2_in + (usable_h - h0 - h1) / 2  # front and side views
-    y0 = y1 + h1 + gap1_in  # top view and legend
+    overhead_h = top_in + gap1_in + gap2_in + bottom_in + info_h_in
 
     pairs = sorted(units, key=lambda p: -p.half_width_m)
     views = {
@@ -199,13 +190,38 @@ def cage_in_room_figure(cage: CoilCage | AxisCage, frame, room, test_volume_m, h
         "side": (1, 2, "side view, seen from +x"),
     }
     with matplotlib.rc_context(_RC):
-        fig = _new_figure(width_in, height_in)
-        ax_top = fig.add_axes(box_at(fig, x0, y0, w0, h0))
-        ax_front = fig.add_axes(box_at(fig, x0, y1, w0, h1), sharex=ax_top)
-        ax_side = fig.add_axes(box_at(fig, x1, y1, w1, h1), sharey=ax_front)
-        ax_legend = fig.add_axes(box_at(fig, x1, y0, width_in - right_in - x1, h0))
-        ax_info = fig.add_axes(box_at(fig, left_in, bottom_in, width_in - left_in - right_in, info_h_in))
-        legend_cols = 2 if width_in - right_in - x1 >= 2.6 else 1
+        fig = _new_figure(width_in, 4.5 + info_h_in)  # the height is set below
+        # Top, front and side views, the legend panel and the sizes panel, placed below once the
+        # legend is measured: its size (need_w, need_h) sets the least size of the top-right cell.
+        whole = (0.0, 0.0, 1.0, 1.0)
+        ax_top = fig.add_axes(whole)
+        ax_front = fig.add_axes(whole, sharex=ax_top)
+        ax_side = fig.add_axes(whole, sharey=ax_front)
+        ax_legend = fig.add_axes(whole)
+        scale_w = usable_w / (span[0] + span[1])
+        need_w, need_h = _legend_panel(ax_legend, units, room, usable_w - scale_w * span[0])
+        if scale_w * span[1] < need_w:  # a narrow side view: the views get smaller, the legend fits
+            scale_w = min(scale_w, (usable_w - need_w) / span[0])
+        # Panel heights follow the data spans so that every view keeps one scale.
+        height_in = float(np.clip(max(scale_w * span[1], need_h) + scale_w * span[2] + overhead_h - info_h_in,
+                                  4.5, 9.8)) + info_h_in
+        fig.set_size_inches(width_in, height_in)
+        usable_h = height_in - overhead_h
+        scale_in_per_m = min(scale_w, usable_h / (span[1] + span[2]))
+        if max(scale_in_per_m * span[1], need_h) + scale_in_per_m * span[2] > usable_h and usable_h > need_h:
+            scale_in_per_m = min(scale_in_per_m, (usable_h - need_h) / span[2])
+        w0, w1 = scale_in_per_m * span[0], scale_in_per_m * span[1]
+        h0, h1 = scale_in_per_m * span[1], scale_in_per_m * span[2]
+        col1_w, row0_h = max(w1, need_w), max(h0, need_h)
+        x0 = left_in + (usable_w - w0 - col1_w) / 2  # the views centred across the width
+        x1 = x0 + w0 + wgap_in
+        y1 = bottom_in + info_h_in + gap2_in + (usable_h - row0_h - h1) / 2  # front and side views
+        y0 = y1 + h1 + gap1_in  # top view (at the top of its row) and legend
+        ax_legend.set_position(box_at(fig, x1, y0, col1_w, row0_h))
+        ax_top.set_position(box_at(fig, x0, y0 + row0_h - h0, w0, h0))
+        ax_front.set_position(box_at(fig, x0, y1, w0, h1))
+        ax_side.set_position(box_at(fig, x1, y1, w1, h1))
+        ax_info = fig.add_axes(box_at(fig, 0.45, bottom_in, width_in - 0.45 - 0.05, info_h_in))
         for name, ax in (("top", ax_top), ("front", ax_front), ("side", ax_side)):
             ih, iv, title = views[name]
             # Room and clearance.
@@ -271,7 +287,6 @@ def cage_in_room_figure(cage: CoilCage | AxisCage, frame, room, test_volume_m, h
                      ha="left", va="center", fontsize=_FS["small"], color="0.15",
                      bbox=dict(facecolor="white", edgecolor="none", pad=0.6, alpha=0.8))
 
-        _legend_panel(ax_legend, units, room, legend_cols)
         _info_panel(ax_info, units, frame, room, env, inner, tv)
         if heading_deg is not None:
             _north_arrow(ax_top, heading_deg)
@@ -308,8 +323,11 @@ def _north_arrow(ax, heading_deg: float) -> None:
             bbox=dict(facecolor="white", edgecolor="none", pad=0.6, alpha=0.8))
 
 
-def _legend_panel(ax, units, room, ncol: int) -> None:
-    """The legend and the frame's directions, in an axis-less panel."""
+def _legend_panel(ax, units, room, width_in: float) -> tuple[float, float]:
+    """The legend and the frame's directions, in an axis-less panel; (width, height) it needs, in inches.
+
+    Two legend columns when they fit in ``width_in`` inches, else one.
+    """
     ax.set_axis_off()
     handles = [Patch(facecolor=AXIS_COLOURS[p.axis], alpha=0.45, edgecolor=AXIS_COLOURS[p.axis],
                      label=f"{driven_name(p)} frames") for p in units]
@@ -318,15 +336,19 @@ def _legend_panel(ax, units, room, ncol: int) -> None:
         handles.append(Line2D([], [], color="black", linewidth=2.2, label="room walls"))
         handles.append(Line2D([], [], color="0.35", linestyle="--", linewidth=1.0, label="clearance"))
     handles.append(Line2D([], [], color="0.45", linestyle=":", linewidth=1.0, label="envelope"))
-    legend = ax.legend(handles=handles, loc="upper left", ncol=ncol, frameon=False, fontsize=_FS["small"],
+    fig = ax.figure
+    legend = ax.legend(handles=handles, loc="upper left", ncol=2, frameon=False, fontsize=_FS["small"],
                        handlelength=1.6, borderaxespad=0.0)
-    panel_w_in = ax.get_position().width * ax.figure.get_size_inches()[0]
-    if ncol > 1 and extent_in(ax.figure, legend)[0] > panel_w_in:  # too wide for two columns
-        ax.legend(handles=handles, loc="upper left", ncol=1, frameon=False, fontsize=_FS["small"],
-                  handlelength=1.6, borderaxespad=0.0)
-    ax.text(0.0, 0.0, "cage frame: x toward the heading,\ny 90° clockwise from x seen from above,\n"
-            "z down", transform=ax.transAxes, ha="left", va="bottom", fontsize=_FS["small"],
-            color="0.25", linespacing=1.4)
+    legend_w, legend_h = extent_in(fig, legend)
+    if legend_w > width_in:  # too wide for two columns
+        legend = ax.legend(handles=handles, loc="upper left", ncol=1, frameon=False, fontsize=_FS["small"],
+                           handlelength=1.6, borderaxespad=0.0)
+        legend_w, legend_h = extent_in(fig, legend)
+    note = ax.text(0.0, 0.0, "cage frame: x toward the heading,\ny 90° clockwise from x seen from above,\n"
+                   "z down", transform=ax.transAxes, ha="left", va="bottom", fontsize=_FS["small"],
+                   color="0.25", linespacing=1.4)
+    note_w, note_h = extent_in(fig, note)
+    return max(legend_w, note_w) + 0.05, legend_h + 0.15 + note_h
 
 
 def _info_panel(ax, units, frame, room, env, inner, tv) -> None:
@@ -366,5 +388,9 @@ def _info_panel(ax, units, frame, room, env, inner, tv) -> None:
                  f"(along the axis × radial), gap {frame.gap_m * 1000:.0f} mm")
     ax.text(0.0, 1.0, "\n".join(left), transform=ax.transAxes, ha="left", va="top",
             fontsize=_FS["small"], color=colour, linespacing=1.5, gid="sizes")
-    ax.text(0.51, 1.0, "\n".join(right), transform=ax.transAxes, ha="left", va="top",
-            fontsize=_FS["small"], linespacing=1.5, gid="pairs")
+    pairs = ax.text(0.51, 1.0, "\n".join(right), transform=ax.transAxes, ha="left", va="top",
+                    fontsize=_FS["small"], linespacing=1.5, gid="pairs")
+    # Long lines (large sizes, many turns): the right column starts further left, so that it ends
+    # inside the figure.
+    panel_w_in = ax.get_position().width * ax.figure.get_size_inches()[0]
+    pairs.set_x(min(0.51, 1.0 - extent_in(ax.figure, pairs)[0] / panel_w_in))
