@@ -199,9 +199,17 @@ def setpoints_figure(doc: dict) -> Figure:
             panel_w_in = FIG_WIDTH_IN - left_in - right_in
             reach = max(w - (0.6 + i) / (nrow + 0.2) * panel_w_in for i, (w, _) in enumerate(sizes))
             left_in = max(_SETPOINT_LEFT_IN, reach + 0.1)
-        gs.update(**grid_box(fig, left_in, right_in, top_in, bottom_in, nrows=2, hgap_in=0.14))
-        for ax in (ax_i, ax_p):  # GridSpec.update moves the axes of pyplot figures only
-            ax.set_position(ax.get_subplotspec().get_position(fig))
+        hgap_in = 0.14
+        for _ in range(2):  # the second pass: room for the power panel's texts that rise above it
+            gs.update(**grid_box(fig, left_in, right_in, top_in, bottom_in, nrows=2, hgap_in=hgap_in))
+            for ax in (ax_i, ax_p):  # GridSpec.update moves the axes of pyplot figures only
+                ax.set_position(ax.get_subplotspec().get_position(fig))
+            top_px = ax_p.get_position().y1 * height_in * fig.dpi
+            rise_in = max([extent_top - top_px for extent_top in
+                           (t.get_window_extent(fig.canvas.get_renderer()).y1 for t in ax_p.texts)] + [0.0]) / fig.dpi
+            if rise_in <= 0.0:
+                break
+            hgap_in = 0.14 + rise_in
     return _finish(fig)
 
 
