@@ -22,7 +22,7 @@ SHAPE_HELP = "Coil shape on every axis: square, round or either (default: the si
 MINIMISE_HELP = "What the planner minimises: power (at full range), mass (copper) or size (envelope volume)."
 STEP_HELP = "Largest field step one supply current step may give (nT)."
 SYSTEM_HELP = ("Coil systems allowed per axis, comma-separated: pair, three, four, four-equal (default: the "
-               "site's requirement.systems; pairs when not given).")
+               "site's requirement.systems; all of them when not given).")
 
 
 def resolve_site(site_file: Optional[Path], lat: Optional[float], lon: Optional[float],

@@ -47,8 +47,8 @@ class Requirement:
     uniformity: largest allowed |B(p) - B(0)| / |B(0)| over the box, each axis driven alone.
     extra_field_uT: field each axis must add beyond nulling its ambient component, both signs.
     shape: "square", "round" or "either".
-    systems: the coil systems the planner may use per axis (``cage.coilsystems.SYSTEMS``); pairs
-        only when not given (``systems = ["pair", "three", "four", "four-equal"]`` allows all).
+    systems: the coil systems the planner may use per axis (``cage.coilsystems.SYSTEMS``); all of
+        them when not given (``systems = ["pair"]`` keeps to pairs).
     max_field_step_nT: largest field step one supply current step may give (a constraint on
         the planner only when given; otherwise the step that results is reported).
     """
@@ -58,9 +58,9 @@ class Requirement:
     extra_field_uT: tuple[float, float, float] = (100.0, 100.0, 100.0)
     shape: str = "either"
     max_field_step_nT: float | None = None
-    # Pairs only unless the site or --system asks for more: the figures and the HTML report of
-    # ``cage plan`` draw pairs only so far (issue 16, item 3).
-    systems: tuple[str, ...] = ("pair",)
+    # Every coil system unless the site or --system narrows the choice: cage.coilsystems.SYSTEMS,
+    # written out so that reading a site does not import the coil geometry.
+    systems: tuple[str, ...] = ("pair", "three", "four", "four-equal")
 
 
 @dataclass(frozen=True)

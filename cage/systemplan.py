@@ -133,6 +133,38 @@ def winding_for_axis(ax1, inp, uniform_size_m: float):
     return None, closest[1], closest[0]
 
 
+def step_sizes_m(ax1, inp) -> tuple[float, ...]:
+    """Sizes (m) above ``ax1``'s where the field-step limit lets one more multiple of the turns
+    pattern in, one per allowed wire whose channel holds more than the limit allows at
+    ``ax1``'s size (empty without a step limit).
+
+    The system scales with its size, so its centre field per ampere goes as 1 / size: k patterns
+    keep the step within the limit from size x f1 k res / step_max on. At equal field the current
+    goes as size / k and the resistance as k x size, so the power goes as size^3 / k: below that
+    size more patterns do not fit the limit, above it the power only grows -- the smallest size
+    that admits k_max + 1 patterns is the one larger size worth trying (also where the field
+    first becomes reachable when even one pattern steps too coarsely at ``ax1``'s size)."""
+    from cage.electrical import max_turns
+    from cage.pairplan import MAX_SIZE_M
+
+    if inp.max_field_step_nT is None:
+        return ()
+    supply = inp.supplies[AXES.index(ax1.axis)]
+    f1 = _centre_field_per_amp_T(ax1)
+    step_T = inp.max_field_step_nT * 1e-9
+    top_turns = max(int(c.turns) for c in ax1.coils)
+    out = set()
+    for wire in inp.wires:
+        k_fit = max_turns(wire, inp.frame.width_m, inp.frame.depth_m) // top_turns
+        k_hi = min(k_fit, math.floor(step_T / (f1 * supply.resolution_A) * (1 + 1e-12)))
+        if k_fit < 1 or k_hi >= k_fit:
+            continue  # nothing fits, or the channel, not the step limit, caps the turns
+        size = ax1.size_m * f1 * (k_hi + 1) * supply.resolution_A / step_T * (1 + 1e-9)
+        if ax1.size_m < size <= MAX_SIZE_M:
+            out.add(round(size, 9))
+    return tuple(sorted(out))
+
+
 def _objective(inp, power: float, mass: float, volume: float) -> tuple:
     if inp.minimise == "power":
         return (round(power, 9), round(volume, 12))
@@ -191,19 +223,40 @@ def plan_with_systems(inp):
             winding_cache[key] = winding_for_axis(system_axis(axis, shape, system, size), inp, uniform_size)
         return winding_cache[key]
 
-    # Lower bound of the objective per combination, at each axis's own uniform size.
+    def sizes_from(axis, shape, system, size):
+        """The size itself and the larger ones where the step limit admits one more pattern."""
+        return (size,) + step_sizes_m(system_axis(axis, shape, system, size), inp)
+
+    bound_cache: dict = {}
+
+    def option_bound(axis, option):
+        """(least power, least copper) of one axis option over its size choices from its uniform
+        size, or the reason none is feasible (power and copper only grow from there, see
+        step_sizes_m)."""
+        shape, system, size_u = option
+        key = (axis, option)
+        if key not in bound_cache:
+            plans = [winding(axis, shape, system, size, size_u) for size in sizes_from(axis, shape, system, size_u)]
+            ok = [p[0] for p in plans if p[0] is not None]
+            if ok:
+                bound_cache[key] = (min(p.drive.power_W for p in ok), min(p.electrics.copper_mass_kg for p in ok))
+            else:
+                bound_cache[key] = min(plans, key=lambda p: p[2])
+        return bound_cache[key]
+
+    # Lower bound of the objective per combination, each axis at its best size from its own
+    # uniform size on.
     combos = []
     for index, combo in enumerate(itertools.product(*(options[a] for a in AXES))):
         if all(o[1] == "pair" for o in combo):
             continue  # the pair planner's cage
-        plans = [winding(a, o[0], o[1], o[2], o[2]) for a, o in zip(AXES, combo)]
-        failed = [p for p in plans if p[0] is None]
+        bounds = [option_bound(a, o) for a, o in zip(AXES, combo)]
+        failed = [b for b in bounds if b[0] is None]
         if failed:
             errors.extend((f[2], f[1]) for f in failed)
             continue
         ext = np.max([axis_extent_m(system_axis(a, o[0], o[1], o[2]), frame) for a, o in zip(AXES, combo)], axis=0)
-        bound = _objective(inp, sum(p[0].drive.power_W for p in plans),
-                           sum(p[0].electrics.copper_mass_kg for p in plans), float(np.prod(2.0 * ext)))
+        bound = _objective(inp, sum(b[0] for b in bounds), sum(b[1] for b in bounds), float(np.prod(2.0 * ext)))
         combos.append((bound, index, combo))
     combos.sort(key=lambda c: (c[0], c[1]))
 
@@ -217,28 +270,44 @@ def plan_with_systems(inp):
         if nestings >= MAX_NESTINGS:
             break
         option_of = dict(zip(AXES, combo))
-        for order in orders:
+
+        def nested(axis, placed, lower):
+            shape, system, _ = option_of[axis]
+            key = (axis, shape, system, lower, placed)
+            if key not in nest_cache:
+                try:
+                    nest_cache[key] = smallest_nesting_axis_size_m(axis, shape, system, placed, frame,
+                                                                   lower, upper_m=MAX_SIZE_M)
+                except ValueError:
+                    nest_cache[key] = None
+            return nest_cache[key]
+
+        def grow(order, placed):
+            """Every nesting, innermost first: each axis at its smallest size that clears the axes
+            inside it, and at the larger sizes where the step limit admits one more pattern."""
+            if len(placed) == 3:
+                yield placed
+                return
+            axis = order[2 - len(placed)]
+            shape, system, size_u = option_of[axis]
+            lower = size_u
+            if inp.axis_order and placed:
+                widest = max(p.half_width_m for p in placed)
+                lower = max(lower, (2.0 * widest if shape == "square" else widest) * (1.0 + 1e-9))
+            size0 = nested(axis, placed, lower)
+            if size0 is None:
+                return
+            seen = set()
+            for size in sizes_from(axis, shape, system, size0):
+                if size > size0:
+                    size = nested(axis, placed, size)
+                    if size is None or size in seen:
+                        continue
+                seen.add(size)
+                yield from grow(order, placed + (system_axis(axis, shape, system, size),))
+
+        for order, placed in ((o, p) for o in orders for p in grow(o, ())):
             nestings += 1
-            placed = []
-            for axis in reversed(order):  # innermost first
-                shape, system, size_u = option_of[axis]
-                lower = size_u
-                if inp.axis_order and placed:
-                    widest = max(p.half_width_m for p in placed)
-                    lower = max(lower, (2.0 * widest if shape == "square" else widest) * (1.0 + 1e-9))
-                key = (axis, shape, system, lower, tuple(placed))
-                if key not in nest_cache:
-                    try:
-                        nest_cache[key] = smallest_nesting_axis_size_m(axis, shape, system, tuple(placed), frame,
-                                                                       lower, upper_m=MAX_SIZE_M)
-                    except ValueError:
-                        nest_cache[key] = None
-                size = nest_cache[key]
-                if size is None:
-                    break
-                placed.append(system_axis(axis, shape, system, size))
-            if len(placed) < 3:
-                continue
             by_axis = {p.axis: p for p in placed}
             cage1 = AxisCage(by_axis["x"], by_axis["y"], by_axis["z"])
             layout = check_axes_layout(cage1, frame, inp.room)

@@ -82,3 +82,26 @@ def test_nesting_a_four_coil_axis_around_two_inner_ones():
     size = smallest_nesting_axis_size_m("x", "square", "four", inner, FRAME, 1.42)
     assert axis_clears(system_axis("x", "square", "four", size), inner, FRAME)
     assert not axis_clears(system_axis("x", "square", "four", size - 0.002), inner, FRAME)
+
+
+def test_clearance_decision_against_sampling():
+    """axes_clear (samples with a Lipschitz bound, refined near the edge) against brute-force
+    sampling of both centrelines, for needs just above and just below the sampled distance,
+    and against the exact distance of axes_min_distance_m for needs within 1e-6 m of it."""
+    from cage.coillayout import axes_clear, axes_min_distance_m
+
+    rng = np.random.default_rng(11)
+    systems = {"square": ["pair", "three", "four"], "round": ["pair", "three", "four", "four-equal"]}
+    for _ in range(12):
+        sa, sb = rng.choice(["square", "round"], 2)
+        a = system_axis("x", sa, rng.choice(systems[sa]), rng.uniform(0.5, 2.0))
+        b = system_axis(["y", "z"][rng.integers(2)], sb, rng.choice(systems[sb]), rng.uniform(0.5, 2.0))
+        brute = min(_brute(a, ca, b, cb) for ca in a.coils for cb in b.coils)
+        # 1-Lipschitz along each centreline: the true distance is within half a sample step on
+        # each curve below the brute-force one
+        perimeter = [(2 * np.pi if ax.shape == "round" else 4.0) * ax.size_m for ax in (a, b)]
+        slack = sum(perimeter) / (2 * 800)
+        assert not axes_clear(a, b, brute + 1e-9)
+        assert axes_clear(a, b, brute - slack - 1e-9)
+        exact = axes_min_distance_m(a, b)
+        assert axes_clear(a, b, exact - 1e-6) and not axes_clear(a, b, exact + 1e-6)

@@ -122,13 +122,14 @@ def _check_design_in_magpylib(raw):
         assert dev <= tol, (a, entry["system"], dev)
 
 
-def test_no_pair_fits_the_room_but_a_four_coil_cage_is_planned(run_cli, tmp_path):
-    # without requirement.systems the planner keeps to pairs, and no pair fits: refused (exit 3,
-    # one line naming the room), as with --system pair
-    for args in ((), ("--system", "pair")):
-        pairs = run_cli("design", _site(tmp_path, name="pairs.toml"), *args, "--out", tmp_path / "p.json")
+@pytest.mark.parametrize("systems_line", ["", 'systems = ["pair", "three", "four"]'])
+def test_no_pair_fits_the_room_but_a_four_coil_cage_is_planned(run_cli, tmp_path, systems_line):
+    # pairs only (the site's systems or --system pair): no pair fits, refused (exit 3, one line
+    # naming the room); with every system allowed (the default) or the ones named: planned
+    for site_line, args in (('systems = ["pair"]', ()), ("", ("--system", "pair"))):
+        pairs = run_cli("design", _site(tmp_path, site_line, name="pairs.toml"), *args, "--out", tmp_path / "p.json")
         assert pairs.code == 3 and "room" in pairs.err and "Traceback" not in pairs.err, pairs
-    site = _site(tmp_path, systems_line='systems = ["pair", "three", "four"]')
+    site = _site(tmp_path, systems_line=systems_line)
     run = run_cli("design", site, "--out", tmp_path / "d.json")
     assert run.code == 0, run
     raw = json.loads((tmp_path / "d.json").read_text())
@@ -236,3 +237,22 @@ def test_compare_figure_draws_one_line_per_system():
     assert {"compare-pair", "compare-four"} <= gids
     labels = [t.get_text() for t in fig.legends[0].get_texts()]
     assert any("four" in t for t in labels) and any("pair" in t for t in labels)
+
+
+@pytest.mark.parametrize("name", ["smallsat-lab", "arctic-cal-hut", "equatorial-hall"])
+def test_demo_site_default_design_rebuilt_in_magpylib(run_cli, tmp_path, name):
+    # the demo sites as they stand (every coil system allowed unless the site narrows it):
+    # whatever the planner chose, rebuilt from design.json alone
+    from pathlib import Path
+
+    path = Path(__file__).resolve().parent.parent / "sites" / f"{name}.toml"
+    run = run_cli("design", path, "--out", tmp_path / "d.json")
+    assert run.code == 0, run
+    raw = json.loads((tmp_path / "d.json").read_text())
+    if raw.get("version") == 2:
+        _check_design_in_magpylib(raw)
+    else:  # a cage of pairs (written as version 1): the pair checks, field, electrics and frames
+        from cage.sitefile import load_site
+        from test_planner_against_magpylib import check_design_independently
+
+        check_design_independently(raw, load_site(path))
