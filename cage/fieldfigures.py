@@ -99,7 +99,6 @@ def uniformity_maps_figure(cage: CoilCage | AxisCage, test_volume_m, tolerance: 
         raise InputError(f"extent_m must be a positive width in metres, got {extent_m!r}")
 
     cmap = matplotlib.colormaps["viridis"].with_extremes(under="#1a0b2e", over="#fff7a8")
-    norm = LogNorm(vmin=_MAP_LEVELS[0], vmax=_MAP_LEVELS[-1])
     with matplotlib.rc_context(_RC):
         fig = _new_figure(FIG_WIDTH_IN, _MAPS_HEIGHT_IN)
         box = grid_box(fig, *_MAPS_MARGINS_IN, nrows=3, ncols=3, wgap_in=_MAPS_GAPS_IN[0], hgap_in=_MAPS_GAPS_IN[1])
@@ -110,6 +109,9 @@ def uniformity_maps_figure(cage: CoilCage | AxisCage, test_volume_m, tolerance: 
                 ax = axes[r, c]
                 m = deviation_map(pair, plane, size_m=(width, width), n=(n, n))
                 dev = np.clip(m.deviation, _MAP_FLOOR, None)
+                # A norm of its own per map: one shared norm would tell every earlier map to
+                # recolour itself each time a map is added (the same levels and colours either way).
+                norm = LogNorm(vmin=_MAP_LEVELS[0], vmax=_MAP_LEVELS[-1])
                 filled = ax.contourf(m.u_m, m.v_m, dev, levels=_MAP_LEVELS, norm=norm, cmap=cmap,
                                      extend="both")
                 if dev.min() < tol < dev.max():

@@ -63,6 +63,16 @@ def _band_patch(pair, frame, ih, iv, height_of, colour, alpha: float = 0.45) -> 
                      linewidth=0.6, gid=f"frame-{pair.axis}")
 
 
+def _add_band(ax, band: PathPatch) -> None:
+    """Add a face-on frame band to a view without updating the view's data limits.
+
+    The views' limits are set explicitly (``cage_in_room_figure``), so the data limits are never
+    used; ``Axes.add_patch`` would walk every Bezier segment of the band's path (960 vertices)
+    to update them, which costs more than drawing the band.
+    """
+    ax.add_artist(band)
+
+
 def _edge_bar(ax, pair, plane_m: float, frame, ih, iv, height_of, colour) -> None:
     """The frame of one coil of ``pair`` seen edge-on: a bar of the frame's width centred on its
     plane (``plane_m`` along the axis), reaching the half-width plus half the frame depth."""
@@ -87,7 +97,7 @@ def _draw_pair(ax, pair, frame, ih, iv, height_of) -> None:
     colour = AXIS_COLOURS[pair.axis]
     a = AXES.index(pair.axis)
     if a not in (ih, iv):
-        ax.add_patch(_band_patch(pair, frame, ih, iv, height_of, colour))
+        _add_band(ax, _band_patch(pair, frame, ih, iv, height_of, colour))
     else:
         for sign in (-1.0, 1.0):
             _edge_bar(ax, pair, sign * pair.spacing_m / 2, frame, ih, iv, height_of, colour)
@@ -114,7 +124,7 @@ def _draw_coil_axis(ax, coil_axis: CoilAxis, frame, ih, iv, height_of) -> None:
         sign = 1.0 if coil.position_m >= 0 else -1.0
         if a not in (ih, iv):
             same = sum(1 for c in coil_axis.coils if c.size_m == coil.size_m)
-            ax.add_patch(_band_patch(pair, frame, ih, iv, height_of, colour, 1.0 - 0.55 ** (1.0 / same)))
+            _add_band(ax, _band_patch(pair, frame, ih, iv, height_of, colour, 1.0 - 0.55 ** (1.0 / same)))
         else:
             _edge_bar(ax, pair, float(coil.position_m), frame, ih, iv, height_of, colour)
         h, v = _project(_curve_points(pair, _CURVE_T, sign), ih, iv, height_of)
