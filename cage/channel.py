@@ -15,6 +15,8 @@ two coils' channels are centred on the coil planes, so the winding's spacing is 
 """
 from __future__ import annotations
 
+from functools import lru_cache
+
 from cage.coils import CoilPair
 
 
@@ -26,6 +28,12 @@ def inset_m(shape: str, frame_depth_m: float, pack_depth_m: float) -> float:
 
 def pack_depth_m(wire: str, turns: int, frame_width_m: float) -> float:
     """Radial depth of ``turns`` turns of ``wire`` wound across a channel ``frame_width_m`` wide."""
+    return _pack_depth_cached(wire, int(turns), float(frame_width_m))
+
+
+@lru_cache(maxsize=65536)
+def _pack_depth_cached(wire: str, turns: int, frame_width_m: float) -> float:
+    # the planner's size scans ask the same few (wire, turns) many times
     from cage.coils import FilamentPack
     from cage.wires import wire_from_name
 

@@ -26,12 +26,13 @@ from cage.coils import AXES, CoilPair
 from cage.layout import (
     FrameSpec,
     Layout,
-    _curve_points,
     _curve_to_circle_m,
     _segments_distance_m,
     _square_segments,
     first_clear_size_m,
     layout_from,
+    rings_clear,
+    sampled_ring_distances,
 )
 
 __all__ = [
@@ -73,7 +74,8 @@ def axes_min_distance_m(ax_a: CoilAxis, ax_b: CoilAxis) -> float:
         return _segments_distance_m(*_square_axis_segments(ax_a), *_square_axis_segments(ax_b))
     # Only coil pairs whose sampled distance, less the Lipschitz slack (see axes_clear), reaches
     # below the smallest sample can hold the minimum: only those are refined.
-    curve, circles, dist, slack = _sampled_to_circles(ax_a, ax_b)
+    curve, circles = _curves_and_circles(ax_a, ax_b)
+    dist, slack = sampled_ring_distances(*_ring_args(curve, circles))
     lowest = dist.min(axis=-1)
     return min(coil_distance_m(curve, curve.coils[j], circles, circles.coils[i])
                for i, j in zip(*np.nonzero(lowest - slack <= lowest.min())))
@@ -110,32 +112,6 @@ def axis_clears(ax: CoilAxis, others, frame: FrameSpec) -> bool:
     return all(axes_clear(ax, o, need) for o in others)
 
 
-# Samples per coil for the clearance decision: the band where samples cannot decide is half a
-# sample step (6 mm on a 2 m square coil); there the samples are refined locally.
-DECISION_SAMPLES = 1024
-_REFINE_SPLIT = 16
-_REFINE_ROUNDS = 8
-_REFINE_MAX_POINTS = 65536
-
-
-def _unit_curves(n: int) -> dict:
-    """(u, v) of n points evenly spaced in arc length on the unit circle and on the square of side 1."""
-    t = np.arange(n) / n
-    s = 4.0 * t
-    side = np.minimum(s.astype(int), 3)
-    f = s - side
-    corners = np.array([[0.5, -0.5], [0.5, 0.5], [-0.5, 0.5], [-0.5, -0.5], [0.5, -0.5]])
-    return {"round": np.stack([np.cos(2.0 * np.pi * t), np.sin(2.0 * np.pi * t)], axis=-1),
-            "square": corners[side] + (corners[side + 1] - corners[side]) * f[:, None]}
-
-
-_UNIT = _unit_curves(DECISION_SAMPLES)
-
-
-def _perimeter_m(shape: str, size_m: float) -> float:
-    return 2.0 * np.pi * size_m if shape == "round" else 4.0 * size_m
-
-
 def _square_axis_segments(ax: CoilAxis) -> tuple[np.ndarray, np.ndarray]:
     """Starts and directions (4 x coils, 3) of the sides of every square coil of ``ax``."""
     starts, dirs = [], []
@@ -147,81 +123,36 @@ def _square_axis_segments(ax: CoilAxis) -> tuple[np.ndarray, np.ndarray]:
     return np.vstack(starts), np.vstack(dirs)
 
 
+def _curves_and_circles(ax_a: CoilAxis, ax_b: CoilAxis):
+    """(curve axis, round axis): the round one carries the circles (either when both are round)."""
+    return (ax_a, ax_b) if ax_b.shape == "round" else (ax_b, ax_a)
+
+
+def _ring_args(curve: CoilAxis, circles: CoilAxis) -> tuple:
+    return (AXES.index(curve.axis), curve.shape, np.array([k.size_m for k in curve.coils]),
+            np.array([k.position_m for k in curve.coils]), AXES.index(circles.axis),
+            np.array([k.size_m for k in circles.coils]), np.array([k.position_m for k in circles.coils]))
+
+
 def axes_clear(ax_a: CoilAxis, ax_b: CoilAxis, need_m: float) -> bool:
     """True when the smallest centreline distance between any coil of axis a and any coil of
     axis b (different axes) is at least ``need_m``: the answer of
     ``axes_min_distance_m(ax_a, ax_b) >= need_m``, reached with far less work.
 
     Two squares: the exact side-to-side distance, all sides of both axes at once. With a round
-    coil: the exact distance from points of the other curve to the circle, at
-    ``DECISION_SAMPLES`` points per coil. That distance is 1-Lipschitz in arc length along the
-    curve, so between two samples h apart it is at least the smaller sample less h/2: a sample
-    below need_m says no; pieces of curve whose bound reaches below need_m are split and
-    sampled again until every piece is decided.
+    coil: samples of the exact distance to each circle with a Lipschitz bound, refined near the
+    edge (``cage.layout.rings_clear``).
     """
     if ax_a.axis == ax_b.axis:
         raise ValueError("the two axes must be different")
     if ax_a.shape == "square" and ax_b.shape == "square":
         return _segments_distance_m(*_square_axis_segments(ax_a), *_square_axis_segments(ax_b)) >= need_m
-    curve, circles, dist, slack = _sampled_to_circles(ax_a, ax_b)
-    if np.any(dist < need_m):
-        return False
-    c = AXES.index(circles.axis)
-    for i, j in zip(*np.nonzero(dist.min(axis=-1) - slack < need_m)):
-        if not _piece_clears(curve, curve.coils[j], circles, circles.coils[i], c, dist[i, j], need_m):
-            return False
-    return True
+    curve, circles = _curves_and_circles(ax_a, ax_b)
 
+    def exact(i: int, j: int) -> float:
+        return coil_distance_m(curve, curve.coils[j], circles, circles.coils[i])
 
-def _sampled_to_circles(ax_a: CoilAxis, ax_b: CoilAxis):
-    """(curve axis, round axis, distances (circles, curve coils, DECISION_SAMPLES), slack m): the
-    exact distance to every circle of the round axis from points evenly spaced in arc length on
-    every coil of the other axis (either when both are round), and half the largest sample step."""
-    curve, circles = (ax_a, ax_b) if ax_b.shape == "round" else (ax_b, ax_a)
-    a = AXES.index(curve.axis)
-    scale = np.array([k.size_m for k in curve.coils])
-    uv = _UNIT[curve.shape][None, :, :] * scale[:, None, None]  # (curve coils, n, 2)
-    pts = np.zeros(uv.shape[:2] + (3,))
-    pts[..., (a + 1) % 3], pts[..., (a + 2) % 3] = uv[..., 0], uv[..., 1]
-    pts[..., a] = np.array([k.position_m for k in curve.coils])[:, None]
-    dist = _to_circles(pts, circles.coils, AXES.index(circles.axis))
-    return curve, circles, dist, 0.5 * _perimeter_m(curve.shape, float(scale.max())) / DECISION_SAMPLES
-
-
-def _to_circles(pts: np.ndarray, circles, c: int) -> np.ndarray:
-    """Exact distance (circles, ...) from points (..., 3) to every circle (coils of a round axis
-    on axis index c): sqrt(h^2 + (rho - R)^2), h above the circle's plane, rho from its axis."""
-    rho = np.hypot(pts[..., (c + 1) % 3], pts[..., (c + 2) % 3])
-    shape = (-1,) + (1,) * (pts.ndim - 1)
-    pos = np.array([k.position_m for k in circles]).reshape(shape)
-    radius = np.array([k.size_m for k in circles]).reshape(shape)
-    return np.hypot(pts[None, ..., c] - pos, rho[None] - radius)
-
-
-def _piece_clears(curve: CoilAxis, coil: Coil, circles: CoilAxis, circle: Coil, c: int,
-                  dist: np.ndarray, need_m: float) -> bool:
-    """The refinement of ``axes_clear`` for one coil of the curve against one circle: pieces
-    (parameter t in [0, 1), spacing dt) whose Lipschitz bound falls below need_m are split into
-    _REFINE_SPLIT and sampled again; too many pieces or rounds hand over to ``coil_distance_m``."""
-    pair, sign = _as_pair(curve, coil)
-    n = dist.size
-    t = np.arange(n) / n
-    dt = 1.0 / n
-    perimeter = _perimeter_m(curve.shape, coil.size_m)
-    for _ in range(_REFINE_ROUNDS):
-        unsure = dist - 0.5 * perimeter * dt < need_m
-        if not unsure.any():
-            return True
-        centres = t[unsure]
-        if centres.size * _REFINE_SPLIT > _REFINE_MAX_POINTS:
-            break
-        dt /= _REFINE_SPLIT
-        offsets = (np.arange(_REFINE_SPLIT) - 0.5 * (_REFINE_SPLIT - 1)) * dt
-        t = ((centres[:, None] + offsets[None, :]) % 1.0).ravel()
-        dist = _to_circles(_curve_points(pair, t, sign), (circle,), c)[0]
-        if np.any(dist < need_m):
-            return False
-    return coil_distance_m(curve, coil, circles, circle) >= need_m
+    return rings_clear(*_ring_args(curve, circles), need_m, exact)
 
 
 def same_axis_collisions(ax: CoilAxis, frame: FrameSpec) -> list[tuple[int, int]]:

@@ -160,6 +160,142 @@ def _curve_to_circle_m(curve: CoilPair, curve_sign: float, circle: CoilPair, cir
     return best
 
 
+# --------------------------------------------------------------------------- clearance decisions
+#
+# Whether two sets of coils keep a needed distance is asked far more often than the distance
+# itself (every step of a nesting scan). With a round coil the distance from points of the
+# other centreline to the circle is exact; it is 1-Lipschitz in arc length along that
+# centreline, so between two samples h apart it is at least the smaller sample less h/2. A
+# sample below the need says no; pieces whose bound reaches below it are split and sampled again
+# until each is decided (or handed to the exact minimisation of ``_curve_to_circle_m``).
+
+DECISION_SAMPLES = 256  # per coil: the undecided band is half a step (16 mm on a 2 m square), refined
+_REFINE_SPLIT = 16
+_REFINE_ROUNDS = 8
+_REFINE_MAX_POINTS = 65536
+
+
+def _unit_curve(shape: str, t: np.ndarray) -> np.ndarray:
+    """(u, v) at parameters t in [0, 1), evenly spaced in arc length: the unit circle, or the
+    square of side 1 walked corner to corner as ``_curve_points``."""
+    if shape == "round":
+        return np.stack([np.cos(2.0 * np.pi * t), np.sin(2.0 * np.pi * t)], axis=-1)
+    s = (t % 1.0) * 4.0
+    side = np.minimum(s.astype(int), 3)
+    f = s - side
+    corners = np.array([[0.5, -0.5], [0.5, 0.5], [-0.5, 0.5], [-0.5, -0.5], [0.5, -0.5]])
+    return corners[side] + (corners[side + 1] - corners[side]) * f[:, None]
+
+
+_UNIT = {shape: _unit_curve(shape, np.arange(DECISION_SAMPLES) / DECISION_SAMPLES) for shape in ("round", "square")}
+
+
+def _perimeter_m(shape: str, size_m: float) -> float:
+    return 2.0 * math.pi * size_m if shape == "round" else 4.0 * size_m
+
+
+def _ring_points(a: int, uv: np.ndarray, sizes_m: np.ndarray, positions_m: np.ndarray) -> np.ndarray:
+    """Points (rings, n, 3) of coils on axis index a: unit-curve (u, v) scaled by each size, in
+    the plane axis = position."""
+    pts = np.zeros((sizes_m.size, uv.shape[0], 3))
+    pts[..., (a + 1) % 3] = uv[None, :, 0] * sizes_m[:, None]
+    pts[..., (a + 2) % 3] = uv[None, :, 1] * sizes_m[:, None]
+    pts[..., a] = positions_m[:, None]
+    return pts
+
+
+def _to_circles(pts: np.ndarray, c: int, positions_m: np.ndarray, radii_m: np.ndarray) -> np.ndarray:
+    """Exact distance (circles, ...) from points (..., 3) to circles on axis index c (planes at
+    positions_m, radii radii_m): sqrt(h^2 + (rho - R)^2), h above the plane, rho from the axis."""
+    rho = np.hypot(pts[..., (c + 1) % 3], pts[..., (c + 2) % 3])
+    shape = (-1,) + (1,) * (pts.ndim - 1)
+    return np.hypot(pts[None, ..., c] - positions_m.reshape(shape), rho[None] - radii_m.reshape(shape))
+
+
+def sampled_ring_distances(a: int, shape: str, sizes_m, positions_m, c: int, radii_m, circle_positions_m):
+    """(distances (circles, curves, DECISION_SAMPLES), slack m): the exact distance to every circle
+    (axis index c) from points evenly spaced in arc length on every curve (axis index a, one
+    shape, sizes: side or radius), and half the largest sample step along the curves."""
+    sizes = np.asarray(sizes_m, dtype=float)
+    pts = _ring_points(a, _UNIT[shape], sizes, np.asarray(positions_m, dtype=float))
+    dist = _to_circles(pts, c, np.asarray(circle_positions_m, dtype=float), np.asarray(radii_m, dtype=float))
+    return dist, 0.5 * _perimeter_m(shape, float(sizes.max())) / DECISION_SAMPLES
+
+
+def rings_clear(a: int, shape: str, sizes_m, positions_m, c: int, radii_m, circle_positions_m,
+                need_m: float, exact) -> bool:
+    """True when every curve (axis index a, ``shape``, sizes and plane positions) keeps at least
+    need_m from every circle (axis index c, radii and plane positions), decided from samples as
+    described above; ``exact(i, j)``: the exact distance between circle i and curve j, for pieces
+    the refinement leaves undecided."""
+    dist, slack = sampled_ring_distances(a, shape, sizes_m, positions_m, c, radii_m, circle_positions_m)
+    if np.any(dist < need_m):
+        return False
+    for i, j in zip(*np.nonzero(dist.min(axis=-1) - slack < need_m)):
+        size, pos = float(sizes_m[j]), float(positions_m[j])
+        circle = (np.array([circle_positions_m[i]], dtype=float), np.array([radii_m[i]], dtype=float))
+        verdict = _piece_clears(a, shape, size, pos, c, circle, dist[i, j], need_m)
+        if verdict is False or (verdict is None and exact(i, j) < need_m):
+            return False
+    return True
+
+
+def _piece_clears(a: int, shape: str, size: float, position: float, c: int, circle, dist: np.ndarray,
+                  need_m: float) -> bool | None:
+    """The refinement of ``rings_clear`` for one curve against one circle: pieces (parameter t,
+    spacing dt) whose Lipschitz bound falls below need_m are split into _REFINE_SPLIT and
+    sampled again. True: clear; False: a sample is too close; None: undecided when the pieces
+    grow too many or the rounds run out (the caller asks the exact distance)."""
+    n = dist.size
+    t = np.arange(n) / n
+    dt = 1.0 / n
+    perimeter = _perimeter_m(shape, size)
+    for _ in range(_REFINE_ROUNDS):
+        unsure = dist - 0.5 * perimeter * dt < need_m
+        if not unsure.any():
+            return True
+        centres = t[unsure]
+        if centres.size * _REFINE_SPLIT > _REFINE_MAX_POINTS:
+            return None
+        dt /= _REFINE_SPLIT
+        offsets = (np.arange(_REFINE_SPLIT) - 0.5 * (_REFINE_SPLIT - 1)) * dt
+        t = ((centres[:, None] + offsets[None, :]) % 1.0).ravel()
+        pts = _ring_points(a, _unit_curve(shape, t), np.array([size]), np.array([position]))[0]
+        dist = _to_circles(pts, c, *circle)[0]
+        if np.any(dist < need_m):
+            return False
+    return None
+
+
+def pairs_clear(pair_a: CoilPair, pair_b: CoilPair, need_m: float) -> bool:
+    """``min_centreline_distance_m(pair_a, pair_b) >= need_m``, decided with far less work for
+    round coils (``rings_clear``); cached per distinct geometry like the distance."""
+    if pair_a.axis == pair_b.axis:
+        raise ValueError("the two pairs must belong to different axes")
+    ga = (pair_a.shape, float(pair_a.size_m), float(pair_a.spacing_m))
+    gb = (pair_b.shape, float(pair_b.size_m), float(pair_b.spacing_m))
+    return _clear_cached(*sorted((ga, gb)), float(need_m))
+
+
+@lru_cache(maxsize=200_000)
+def _clear_cached(ga: tuple, gb: tuple, need_m: float) -> bool:
+    if ga[0] == "square" and gb[0] == "square":
+        return _closest_cached(ga, gb) >= need_m
+    pa, pb = CoilPair("x", ga[0], ga[1], ga[2], 1), CoilPair("y", gb[0], gb[1], gb[2], 1)
+    if pb.shape != "round":
+        pa, pb = pb, pa
+    # the curves: both coils of pair a; the circles: both coils of round pair b (every combination)
+    a, c = AXES.index(pa.axis), AXES.index(pb.axis)
+    half_a, half_b = pa.spacing_m / 2.0, pb.spacing_m / 2.0
+    signs = np.array([1.0, -1.0])
+
+    def exact(i: int, j: int) -> float:
+        return _curve_to_circle_m(pa, signs[j], pb, signs[i])
+
+    return rings_clear(a, pa.shape, np.full(2, pa.size_m), signs * half_a, c, np.full(2, pb.size_m),
+                       signs * half_b, need_m, exact)
+
+
 def _closest(pa: CoilPair, pb: CoilPair) -> float:
     """Smallest distance between the +side coil of pair a and either coil of pair b (by the
     mirror symmetry of each pair that is the smallest over all four coil combinations).
@@ -247,7 +383,7 @@ def layout_from(distances: dict, envelope, parts, frame: FrameSpec, room=None) -
 def clears(pair: CoilPair, others, frame: FrameSpec) -> bool:
     """True when ``pair`` keeps the needed centreline distance from every pair in ``others``."""
     need = frame.needed_distance_m
-    return all(min_centreline_distance_m(pair, o) >= need for o in others)
+    return all(pairs_clear(pair, o, need) for o in others)
 
 
 def smallest_nesting_size_m(axis: str, shape: str, inner, frame: FrameSpec, lower_m: float,

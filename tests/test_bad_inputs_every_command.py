@@ -64,7 +64,8 @@ def good(tmp_path_factory) -> Good:
     site_path.write_text(GOOD_SITE_TEXT, encoding="utf-8")
     site = sitefile.load_site(site_path)
     amb = site_ambient(site)
-    inp = plan_inputs_from_site(site, amb.in_force_cage_nT)
+    # a cage of pairs: the bad cases edit a version-1 design's keys
+    inp = plan_inputs_from_site(site, amb.in_force_cage_nT, systems="pair")
     design = design_from_plan(plan_cage(inp), inp, site, amb)
     design_path = d / "design.json"
     save_design(design_path, design)

@@ -35,7 +35,7 @@ def design_path(tmp_path_factory):
     from conftest import cli_code
 
     path = tmp_path_factory.mktemp("build") / "design.json"
-    assert cli_code("design", SITES / "smallsat-lab.toml", "--out", path) == 0
+    assert cli_code("design", SITES / "smallsat-lab.toml", "--system", "pair", "--out", path) == 0
     return path
 
 

@@ -63,7 +63,7 @@ def built_field_nT(design: dict, currents_A) -> np.ndarray:
 
 def test_calibration_recovers_built_cage_and_nulls(tmp_path, run_cli):
     design_path = tmp_path / "design.json"
-    assert run_cli("design", SITES / "smallsat-lab.toml", "--out", design_path).code == 0
+    assert run_cli("design", SITES / "smallsat-lab.toml", "--system", "pair", "--out", design_path).code == 0
     design = json.loads(design_path.read_text())
     suggest = run_cli("calibrate", "--suggest", design_path, SITES / "smallsat-lab.toml")
     assert suggest.code == 0, suggest
@@ -110,7 +110,7 @@ def test_too_few_readings_is_one_line(tmp_path, run_cli):
     from conftest import assert_one_line_error
 
     design_path = tmp_path / "design.json"
-    assert run_cli("design", SITES / "smallsat-lab.toml", "--out", design_path).code == 0
+    assert run_cli("design", SITES / "smallsat-lab.toml", "--system", "pair", "--out", design_path).code == 0
     readings = tmp_path / "r.csv"
     readings.write_text("current_x_A,current_y_A,current_z_A,field_x_nT,field_y_nT,field_z_nT\n"
                         "0,0,0,1,2,3\n1,0,0,4,5,6\n")

@@ -105,3 +105,23 @@ def test_clearance_decision_against_sampling():
         assert axes_clear(a, b, brute - slack - 1e-9)
         exact = axes_min_distance_m(a, b)
         assert axes_clear(a, b, exact - 1e-6) and not axes_clear(a, b, exact + 1e-6)
+
+
+def test_pair_clearance_decision_against_sampling():
+    """cage.layout.pairs_clear (the pair planner's nesting test) against brute-force sampling of
+    all four coils' centrelines, needs just above and just below the sampled distance."""
+    from cage.layout import pairs_clear
+
+    rng = np.random.default_rng(12)
+    for _ in range(12):
+        sa, sb = rng.choice(["square", "round"], 2)
+        pa = CoilPair("x", sa, rng.uniform(0.5, 2.0), rng.uniform(0.3, 1.8), 1)
+        pb = CoilPair(["y", "z"][rng.integers(2)], sb, rng.uniform(0.5, 2.0), rng.uniform(0.3, 1.8), 1)
+        from cage.coilaxis import axis_from_pair
+
+        a, b = axis_from_pair(pa), axis_from_pair(pb)
+        brute = min(_brute(a, ca, b, cb) for ca in a.coils for cb in b.coils)
+        perimeter = [(2 * np.pi if p.shape == "round" else 4.0) * p.size_m for p in (pa, pb)]
+        slack = sum(perimeter) / (2 * 800)
+        assert not pairs_clear(pa, pb, brute + 1e-9)
+        assert pairs_clear(pa, pb, brute - slack - 1e-9)

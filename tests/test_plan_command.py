@@ -77,7 +77,7 @@ def test_design_edited_to_nonsense_is_refused(tmp_path, run_cli):
     # pair's frames collides with them (the rule of the README: centreline distance at
     # least sqrt(w^2 + d^2) + gap).
     design_path = tmp_path / "design.json"
-    assert run_cli("design", SITES / "smallsat-lab.toml", "--out", design_path).code == 0
+    assert run_cli("design", SITES / "smallsat-lab.toml", "--system", "pair", "--out", design_path).code == 0
     doc = json.loads(design_path.read_text())
     for edit, fragment in ((("y", "side_m", 0.01), "smaller than its"),
                            (("x", "side_m", doc["axes"]["y"]["side_m"]), "collide"),

@@ -42,7 +42,7 @@ magpy = pytest.importorskip("magpylib")
 from scipy.spatial import cKDTree  # noqa: E402
 from scipy.spatial.transform import Rotation  # noqa: E402
 
-from conftest import SITES  # noqa: E402
+from conftest import SITES, pair_demo_site  # noqa: E402
 from test_igrf_against_chaosmagpy import chaos_ned_nT  # noqa: E402
 
 AXES = ("x", "y", "z")
@@ -382,9 +382,9 @@ def test_demo_site_design_passes_independent_checks(run_cli, tmp_path, name):
 
     # the pair planner's design (the demo sites may choose other coil systems by default: those
     # are rebuilt in magpylib in test_system_planner_against_magpylib.py)
-    path = SITES / f"{name}.toml"
+    path = pair_demo_site(name, tmp_path)
     out = tmp_path / "design.json"
-    run = run_cli("design", path, "--system", "pair", "--out", out)
+    run = run_cli("design", path, "--out", out)
     assert run.code == 0, run
     doc = json.loads(out.read_text())
     check_design_independently(doc, load_site(path))

@@ -124,7 +124,7 @@ def test_too_few_turns_fit_a_tiny_channel(run_cli, tmp_path):
 
 def test_nesting_does_not_fit_the_room(run_cli, tmp_path):
     # Each pair alone fits a 2.0 m inner height, but one square pair must sit outside another.
-    path = _site(tmp_path, ("height_m = 3.0", "height_m = 2.6"))
+    path = _site(tmp_path, ("height_m = 3.0", "height_m = 2.6"), ("max_field_step_nT = 50", 'max_field_step_nT = 50\nsystems = ["pair"]'))
     msg = _design_fails(run_cli, tmp_path, path, "nesting the three pairs")
     m = re.search(r"envelope of ([\d.]+) x ([\d.]+) x ([\d.]+) m \(x, y, z\), while the room less its clearance "
                   r"allows ([\d.]+) x ([\d.]+) x ([\d.]+) m", msg)

@@ -35,7 +35,7 @@ def make_site(test_volume_m, uniformity, *, shape="square", wires=("AWG 8", "AWG
         "location": {"latitude_deg": 48.0, "longitude_deg": 11.0},
         "room": {"length_m": 10.0, "width_m": 10.0, "height_m": 8.0, "clearance_m": 0.3},
         "requirement": {"test_volume_m": [float(v) for v in test_volume_m], "uniformity": float(uniformity),
-                        "extra_field_uT": extra_uT, "shape": shape},
+                        "extra_field_uT": extra_uT, "shape": shape, "systems": ["pair"]},  # the pair planner
         "coil": coil,
         "supply": [{"axis": "any", "max_voltage_V": max_voltage_V, "max_current_A": max_current_A,
                     "resolution_A": 0.001}],

@@ -286,7 +286,7 @@ def _demo_design_dict() -> dict:
 
     site = load_site(SITES / "smallsat-lab.toml")
     amb = site_ambient(site)
-    inp = plan_inputs_from_site(site, amb.in_force_cage_nT)
+    inp = plan_inputs_from_site(site, amb.in_force_cage_nT, systems="pair")  # the version-1 reader's input
     return design_to_dict(design_from_plan(plan_cage(inp), inp, site, amb))
 
 

@@ -17,7 +17,7 @@ def design_path(tmp_path_factory):
 
     path = tmp_path_factory.mktemp("seq") / "design.json"
     with pytest.raises(SystemExit) as exc:
-        main(["design", str(SITES / "smallsat-lab.toml"), "--out", str(path)])
+        main(["design", str(SITES / "smallsat-lab.toml"), "--system", "pair", "--out", str(path)])
     assert exc.value.code == 0
     return path
 

@@ -24,7 +24,7 @@ import pytest
 
 magpy = pytest.importorskip("magpylib")
 
-from conftest import SITES, cli_code  # noqa: E402
+from conftest import SITES, cli_code, pair_demo_site  # noqa: E402
 from test_igrf_against_chaosmagpy import chaos_ned_nT  # noqa: E402
 from test_planner_against_magpylib import cage_from_ned, mag_cage_field_T  # noqa: E402
 
@@ -44,7 +44,7 @@ def designs(tmp_path_factory):
     out = {}
     for name in ("smallsat-lab", "arctic-cal-hut", "equatorial-hall"):
         path = folder / f"{name}.json"
-        assert _cli("design", SITES / f"{name}.toml", "--out", path) == 0
+        assert _cli("design", pair_demo_site(name, folder), "--out", path) == 0
         out[name] = path
     (folder / "targets.csv").write_text(TARGETS_CSV)
     return out
@@ -160,7 +160,7 @@ def test_reuse_in_a_small_room_with_a_weak_supply_flags_not_clips(run_cli, desig
     site.write_text(SMALL_WEAK_SITE)
     # the least-copper design: fewest turns, so amperes per row (the least-power one runs at mA)
     design = tmp_path / "mass.json"
-    assert run_cli("design", SITES / "smallsat-lab.toml", "--out", design, "--minimise", "mass").code == 0
+    assert run_cli("design", SITES / "smallsat-lab.toml", "--system", "pair", "--out", design, "--minimise", "mass").code == 0
     table, run = _table(run_cli, design, site)
     assert run.code == 0
     assert "does not fit" in run.err

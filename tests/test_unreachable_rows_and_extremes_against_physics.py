@@ -34,7 +34,7 @@ LARGE = "label,x_uT,y_uT,z_uT\n" + "".join(
 def large(tmp_path_factory):
     folder = tmp_path_factory.mktemp("large")
     design = folder / "design.json"
-    assert cli_code("design", SITE, "--out", design) == 0
+    assert cli_code("design", SITE, "--system", "pair", "--out", design) == 0
     targets = folder / "large.csv"
     targets.write_text(LARGE)
     return design, targets, folder

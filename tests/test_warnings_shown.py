@@ -39,7 +39,7 @@ def demo_design(tmp_path_factory):
     site = sitefile.load_site(SITES / "smallsat-lab.toml")
     amb = site_ambient(site)
     # least copper: the fewest turns, so the full-range currents are a good part of the supply's
-    inp = plan_inputs_from_site(site, amb.in_force_cage_nT, minimise="mass")
+    inp = plan_inputs_from_site(site, amb.in_force_cage_nT, minimise="mass", systems="pair")
     path = tmp_path_factory.mktemp("design") / "design.json"
     save_design(path, design_from_plan(plan_cage(inp), inp, site, amb))
     return path
@@ -184,7 +184,7 @@ def _design(run_cli, tmp_path, *pairs):
     site = tmp_path / "site.toml"
     # and no field-step limit, which would ask for more turns and so less current
     site.write_text(edited(*pairs, ("max_field_step_nT = 50", "")), encoding="utf-8")
-    run = run_cli("design", site, "--out", tmp_path / "d.json", "--minimise", "mass")
+    run = run_cli("design", site, "--system", "pair", "--out", tmp_path / "d.json", "--minimise", "mass")
     assert run.code == 0, run
     return run
 
