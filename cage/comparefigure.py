@@ -12,7 +12,8 @@ from matplotlib.lines import Line2D
 
 from cage.errors import InputError
 from cage.escape import for_figure
-from cage.figurestyle import FIG_WIDTH_IN, _FS, _RC, _finish, _new_figure, _tolerance, relative_label
+from cage.figurestyle import (FIG_WIDTH_IN, _FS, _RC, _finish, _new_figure, _tolerance, extent_in, grid_box,
+                              relative_label)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -78,8 +79,12 @@ def compare_figure(rows, room_limit_m: float | None, tolerance: float,
     several = len(systems) > 1
 
     with matplotlib.rc_context(_RC):
-        fig = _new_figure(FIG_WIDTH_IN, 5.6)
-        ax_p, ax_c = fig.subplots(2, 1, sharex=True)
+        height_in = 5.6
+        fig = _new_figure(FIG_WIDTH_IN, height_in)
+        # Margins (in): tick labels and y labels left and right (the mass axis on the right),
+        # the legend row and the title on top (as measured, below), tick labels and x label.
+        gs = fig.add_gridspec(2, 1, **grid_box(fig, 0.72, 0.72, 1.0, 0.5, nrows=2, hgap_in=0.14))
+        ax_p, ax_c = gs.subplots(sharex=True)
         ax_m = ax_p.twinx()
         lo, hi = float(size.min()), float(size.max())
         pad = 0.06 * (hi - lo) if hi > lo else 0.1 * max(hi, 0.1)
@@ -133,8 +138,13 @@ def compare_figure(rows, room_limit_m: float | None, tolerance: float,
             handles.append(Line2D([], [], linestyle="none", marker="o", markerfacecolor="white",
                                   markeredgecolor="0.3", markersize=5))
             labels.append("does not fit the room")
-        fig.legend(handles, labels, loc="outside upper center", ncol=3, fontsize=_FS["small"],
-                   frameon=False)
+        legend = fig.legend(handles, labels, loc="upper center", bbox_to_anchor=(0.5, 1.0 - 0.04 / height_in),
+                            ncol=3, fontsize=_FS["small"], frameon=False)
         ax_p.set_title(f"Cage sizes compared (uniformity tolerance {relative_label(tol)})",
                        fontsize=_FS["title"])
+        top_in = 0.04 + extent_in(fig, legend)[1] + 0.04 + extent_in(fig, ax_p.title)[1] + 0.08
+        gs.update(**grid_box(fig, 0.72, 0.72, top_in, 0.5, nrows=2, hgap_in=0.14))
+        for ax in (ax_p, ax_c):  # GridSpec.update moves the axes of pyplot figures only
+            ax.set_position(ax.get_subplotspec().get_position(fig))
+        ax_m.set_position(ax_p.get_position())
     return _finish(fig)

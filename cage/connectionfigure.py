@@ -52,7 +52,7 @@ def connection_figure(axis: AxisBuild):
     left.set_aspect("equal")
     left.set_xticks([])
     left.set_yticks([])
-    left.set_title(f"axis {a}: positive current seen from +{a}", fontsize=9)
+    left.set_title(f"axis {a}: positive current seen from +{a}", fontsize=9, y=1.0)
     if a == "z":
         left.text(0, -1.22 * h, "(seen from above: clockwise)", fontsize=7, ha="center")
 
@@ -88,7 +88,7 @@ def connection_figure(axis: AxisBuild):
     right.set_ylim(supply_y - 0.5, arrow_y + 0.5)
     right.set_xticks([])
     right.set_yticks([])
-    right.set_title("series aiding: S = start, F = finish", fontsize=9)
+    right.set_title("series aiding: S = start, F = finish", fontsize=9, y=1.0)
     for ax in (left, right):
         for side in ax.spines.values():
             side.set_visible(False)

@@ -17,7 +17,8 @@ from cage.coilaxis import AxisCage, CoilAxis, check_axis_cage
 from cage.coils import AXES, CoilCage, check_cage
 from cage.errors import InputError
 from cage.figurestyle import (AXIS_COLOURS, FIG_WIDTH_IN, _FS, _MAP_FLOOR, _MAP_LEVELS, _RC, _finish, _grid,
-                              _m, _new_figure, _rel_unit, _three_lengths, _tolerance, relative_label)
+                              _m, _new_figure, _rel_unit, _three_lengths, _tolerance, box_at, grid_box,
+                              relative_label)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -98,16 +99,19 @@ def uniformity_maps_figure(cage: CoilCage | AxisCage, test_volume_m, tolerance: 
         raise InputError(f"extent_m must be a positive width in metres, got {extent_m!r}")
 
     cmap = matplotlib.colormaps["viridis"].with_extremes(under="#1a0b2e", over="#fff7a8")
-    norm = LogNorm(vmin=_MAP_LEVELS[0], vmax=_MAP_LEVELS[-1])
     with matplotlib.rc_context(_RC):
-        fig = _new_figure(FIG_WIDTH_IN, 6.9)
-        axes = fig.subplots(3, 3, sharex="col", sharey="col")
+        fig = _new_figure(FIG_WIDTH_IN, _MAPS_HEIGHT_IN)
+        box = grid_box(fig, *_MAPS_MARGINS_IN, nrows=3, ncols=3, wgap_in=_MAPS_GAPS_IN[0], hgap_in=_MAPS_GAPS_IN[1])
+        axes = fig.subplots(3, 3, sharex="col", sharey="col", gridspec_kw=box)
         filled = None
         for r, pair in enumerate(units):
             for c, plane in enumerate(_MAP_PLANES):
                 ax = axes[r, c]
                 m = deviation_map(pair, plane, size_m=(width, width), n=(n, n))
                 dev = np.clip(m.deviation, _MAP_FLOOR, None)
+                # A norm of its own per map: one shared norm would tell every earlier map to
+                # recolour itself each time a map is added (the same levels and colours either way).
+                norm = LogNorm(vmin=_MAP_LEVELS[0], vmax=_MAP_LEVELS[-1])
                 filled = ax.contourf(m.u_m, m.v_m, dev, levels=_MAP_LEVELS, norm=norm, cmap=cmap,
                                      extend="both")
                 if dev.min() < tol < dev.max():
@@ -120,12 +124,19 @@ def uniformity_maps_figure(cage: CoilCage | AxisCage, test_volume_m, tolerance: 
                 ax.xaxis.set_major_locator(MaxNLocator(nbins=3, symmetric=True))
                 ax.yaxis.set_major_locator(MaxNLocator(nbins=5, symmetric=True))
                 third = AXES[3 - iu - iv]
-                ax.set_title(f"{_map_name(pair)} driven, {third} = 0", fontsize=_FS["base"])
+                # y given: the title sits on the axes' top (no tick labels there); matplotlib then
+                # skips measuring every axis to place it
+                ax.set_title(f"{_map_name(pair)} driven, {third} = 0", fontsize=_FS["base"], y=1.0)
                 ax.set_ylabel(f"{plane[1]} (m)")
                 if r == 2:
                     ax.set_xlabel(f"{plane[0]} (m)")
-        cbar = fig.colorbar(filled, ax=axes, shrink=0.85, aspect=35, pad=0.02,
-                            ticks=FixedLocator(10.0 ** np.arange(-6, 0)), format=_rel_formatter())
+        # The colour bar in the right margin, 85 % of the maps' height, centred on them.
+        left_in, right_in, top_in, bottom_in = _MAPS_MARGINS_IN
+        maps_h = _MAPS_HEIGHT_IN - top_in - bottom_in
+        cax = fig.add_axes(box_at(fig, FIG_WIDTH_IN - right_in + 0.15, bottom_in + 0.075 * maps_h, 0.15,
+                                  0.85 * maps_h))
+        cbar = fig.colorbar(filled, cax=cax, ticks=FixedLocator(10.0 ** np.arange(-6, 0)),
+                            format=_rel_formatter())
         cbar.ax.yaxis.set_minor_locator(NullLocator())
         cbar.ax.axhline(tol, color="black", linewidth=2.5)
         cbar.set_label("relative deviation |B(p) − B(0)| / |B(0)|  (ppm, %)")
@@ -134,9 +145,17 @@ def uniformity_maps_figure(cage: CoilCage | AxisCage, test_volume_m, tolerance: 
             f"driven alone\n"
             f"tolerance {relative_label(tol)} (bold black line), "
             f"test volume {_m(tv[0])} × {_m(tv[1])} × {_m(tv[2])} m (dashed white)",
-            fontsize=_FS["title"])
+            fontsize=_FS["title"], y=1.0 - 0.08 / _MAPS_HEIGHT_IN, va="top")
     return _finish(fig)
 
+
+# Uniformity maps: figure height; margins (left, right, top, bottom) and gaps (between columns,
+# between rows) in inches. Left: tick labels and the y label; right: the colour bar with its
+# labels; top: the two-line title and the first row's titles; between rows: the next row's
+# titles; bottom: tick labels and the x labels. The cells come out nearly square, as the maps.
+_MAPS_HEIGHT_IN = 6.9
+_MAPS_MARGINS_IN = (0.62, 1.12, 0.72, 0.45)
+_MAPS_GAPS_IN = (0.66, 0.5)
 
 _LINE_STYLES = ("-", (0, (5, 2)), (0, (1.5, 1.5)))
 
@@ -195,7 +214,10 @@ def axis_lines_figure(cage: CoilCage | AxisCage, test_volume_m, tolerance: float
 
     with matplotlib.rc_context(_RC):
         fig = _new_figure(FIG_WIDTH_IN, 7.2)
-        axes = fig.subplots(3, 1, sharex=True)
+        # Margins in inches: the y labels and tick labels left; the legend row and the first
+        # title on top; each next panel's title between panels; tick labels and x label below.
+        axes = fig.subplots(3, 1, sharex=True,
+                            gridspec_kw=grid_box(fig, 0.78, 0.1, 0.56, 0.48, nrows=3, hgap_in=0.3))
         for a, (ax, pair) in enumerate(zip(axes, units)):
             ax.axhspan(-tol * scale, tol * scale, color="0.88", zorder=0,
                        label=f"tolerance ±{relative_label(tol)}")
@@ -223,13 +245,13 @@ def axis_lines_figure(cage: CoilCage | AxisCage, test_volume_m, tolerance: float
                         max(1.5 * tol, float(seen.max()) * 1.05) * scale)
             ax.set_xlim(s[0], s[-1])
             ax.set_ylabel(f"$B_{pair.axis}/B_{pair.axis}(0) - 1$ ({unit})")
-            ax.set_title(_line_title(pair), fontsize=_FS["base"])
+            ax.set_title(_line_title(pair), fontsize=_FS["base"], y=1.0)  # y given: no auto placement
             ax.grid(True, linewidth=0.4, alpha=0.5)
         handles, labels = axes[0].get_legend_handles_labels()
         handles.append(Line2D([], [], color="0.25", linestyle=(0, (4, 3)), linewidth=0.9))
         labels.append("test volume edges" if np.allclose(tv, tv[0])
                       else "test volume edges (colour of the line)")
-        fig.legend(handles, labels, loc="outside upper center", ncol=5, fontsize=_FS["small"],
-                   frameon=False)
+        fig.legend(handles, labels, loc="upper center", bbox_to_anchor=(0.5, 1.0), ncol=5,
+                   fontsize=_FS["small"], frameon=False)
         axes[-1].set_xlabel("position along the line through the centre (m)")
     return _finish(fig)

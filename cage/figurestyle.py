@@ -55,9 +55,71 @@ _MAP_FLOOR = 1e-9
 
 
 def _new_figure(width_in: float, height_in: float) -> Figure:
-    fig = Figure(figsize=(width_in, height_in), layout="constrained")
+    """A figure on its own Agg canvas, with no layout engine.
+
+    Each figure function places its axes itself with fixed margins in inches (``grid_box``,
+    ``box_at``), measuring only the texts whose size depends on the data (``extent_in``,
+    ``wrapped``): a layout engine would measure every axis at every render, which costs more
+    than the drawing itself.
+    """
+    fig = Figure(figsize=(width_in, height_in))
     FigureCanvasAgg(fig)
     return fig
+
+
+def grid_box(fig: Figure, left_in: float, right_in: float, top_in: float, bottom_in: float,
+             nrows: int = 1, ncols: int = 1, wgap_in: float = 0.0, hgap_in: float = 0.0) -> dict:
+    """GridSpec keywords for margins and gaps given in inches.
+
+    left, right, top, bottom come back as figure fractions; wspace and hspace as fractions of
+    the mean cell width and height (matplotlib's GridSpec convention), so that the gaps between
+    cells are ``wgap_in`` and ``hgap_in`` inches.
+    """
+    width_in, height_in = fig.get_size_inches()
+    cell_w = (width_in - left_in - right_in - (ncols - 1) * wgap_in) / ncols
+    cell_h = (height_in - top_in - bottom_in - (nrows - 1) * hgap_in) / nrows
+    if cell_w <= 0 or cell_h <= 0:
+        raise InputError("figure too small for its margins")
+    return dict(left=left_in / width_in, right=1.0 - right_in / width_in, bottom=bottom_in / height_in,
+                top=1.0 - top_in / height_in, wspace=wgap_in / cell_w, hspace=hgap_in / cell_h)
+
+
+def box_at(fig: Figure, left_in: float, bottom_in: float, width_in: float, height_in: float) -> tuple:
+    """(left, bottom, width, height) in figure fractions of a box given in inches."""
+    fw, fh = fig.get_size_inches()
+    return (left_in / fw, bottom_in / fh, width_in / fw, height_in / fh)
+
+
+def extent_in(fig: Figure, artist) -> tuple[float, float]:
+    """(width, height) in inches of one artist as it will be drawn (texts, legends, tick labels).
+
+    Measures that one artist only (the renderer lays out its text), not the whole figure.
+    """
+    box = artist.get_window_extent(fig.canvas.get_renderer())
+    return float(box.width) / fig.dpi, float(box.height) / fig.dpi
+
+
+def wrapped(fig: Figure, text: str, fontsize: float, width_in: float, max_lines: int = 3) -> str:
+    """``text`` broken at spaces into lines no wider than ``width_in`` inches at ``fontsize`` points.
+
+    At most ``max_lines`` lines; beyond them the text ends in an ellipsis. Text that fits is
+    returned unchanged.
+    """
+    import textwrap
+
+    probe = fig.text(0.0, 0.0, text, fontsize=fontsize)
+    try:
+        w, _ = extent_in(fig, probe)
+    finally:
+        probe.remove()
+    if w <= width_in or not text:
+        return text
+    chars = max(10, int(len(text) * width_in / w * 0.95))
+    lines = textwrap.wrap(text, chars, break_long_words=True, break_on_hyphens=False)
+    if len(lines) > max_lines:
+        lines = lines[:max_lines]
+        lines[-1] = lines[-1][:max(0, chars - 1)].rstrip() + "…"
+    return "\n".join(lines)
 
 
 def _finish(fig: Figure) -> Figure:

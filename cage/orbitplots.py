@@ -23,7 +23,7 @@ def orbit_figure(t_s, body_nT, latitude_deg, longitude_deg, title: str = "", att
     """
     import matplotlib
 
-    from cage.figurestyle import AXIS_COLOURS, FIG_WIDTH_IN, _RC, _finish, _new_figure
+    from cage.figurestyle import AXIS_COLOURS, FIG_WIDTH_IN, _RC, _finish, _new_figure, box_at, extent_in, wrapped
 
     t = np.asarray(t_s, dtype=float)
     b = np.asarray(body_nT, dtype=float)
@@ -38,8 +38,22 @@ def orbit_figure(t_s, body_nT, latitude_deg, longitude_deg, title: str = "", att
     minutes = t[-1] - t[0] > 7200.0
     x = t / 60.0 if minutes else t
     with matplotlib.rc_context(_RC):
-        fig = _new_figure(FIG_WIDTH_IN, 7.2)
-        top, bottom = fig.subplots(2, 1, height_ratios=[1.0, 1.15])
+        height_in = 7.2
+        fig = _new_figure(FIG_WIDTH_IN, height_in)
+        # Fixed places in inches: the map (2:1, equal degrees) along the bottom with its colour
+        # bar right of it; the time series above, its legend in the right margin; the titles
+        # (the figure's title wrapped to the width, measured) on top.
+        left_in, map_right_in, bottom_in = 0.72, 1.05, 0.5
+        map_w = FIG_WIDTH_IN - left_in - map_right_in
+        map_h = map_w / 2.0
+        sup_h = 0.0
+        if title:
+            sup = fig.suptitle(wrapped(fig, title, _RC["figure.titlesize"], FIG_WIDTH_IN - 0.3),
+                               y=1.0 - 0.06 / height_in, va="top")
+            sup_h = extent_in(fig, sup)[1] + 0.06
+        top_h = height_in - 0.08 - sup_h - 0.32 - 0.5 - 0.3 - map_h - bottom_in
+        top = fig.add_axes(box_at(fig, left_in, bottom_in + map_h + 0.3 + 0.5, FIG_WIDTH_IN - left_in - 1.2, top_h))
+        bottom = fig.add_axes(box_at(fig, left_in, bottom_in, map_w, map_h))
         for j, a in enumerate("xyz"):
             top.plot(x, b[:, j] / 1000.0, color=AXIS_COLOURS[a], linewidth=1.0, label=f"{a} (body)",
                      gid=f"field-{a}")
@@ -67,8 +81,7 @@ def orbit_figure(t_s, body_nT, latitude_deg, longitude_deg, title: str = "", att
         bottom.set_ylabel("geodetic latitude (deg)")
         bottom.grid(True, linewidth=0.4, alpha=0.5)
         bottom.set_title("Ground track coloured by |B|")
-        bar = fig.colorbar(sc, ax=bottom, shrink=0.85)
+        cax = fig.add_axes(box_at(fig, left_in + map_w + 0.15, bottom_in + 0.075 * map_h, 0.15, 0.85 * map_h))
+        bar = fig.colorbar(sc, cax=cax)
         bar.set_label("|B| (µT)")
-        if title:
-            fig.suptitle(title)
     return _finish(fig)

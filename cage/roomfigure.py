@@ -23,7 +23,8 @@ from cage.coilaxis import AxisCage, CoilAxis
 from cage.coils import AXES, CoilCage, CoilPair
 from cage.errors import InputError
 from cage.fieldfigures import cage_axes, driven_name
-from cage.figurestyle import AXIS_COLOURS, FIG_WIDTH_IN, _FS, _RC, _finish, _new_figure, _three_lengths
+from cage.figurestyle import (AXIS_COLOURS, FIG_WIDTH_IN, _FS, _RC, _finish, _new_figure, _three_lengths, box_at,
+                              extent_in)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -62,6 +63,16 @@ def _band_patch(pair, frame, ih, iv, height_of, colour, alpha: float = 0.45) -> 
                      linewidth=0.6, gid=f"frame-{pair.axis}")
 
 
+def _add_band(ax, band: PathPatch) -> None:
+    """Add a face-on frame band to a view without updating the view's data limits.
+
+    The views' limits are set explicitly (``cage_in_room_figure``), so the data limits are never
+    used; ``Axes.add_patch`` would walk every Bezier segment of the band's path (960 vertices)
+    to update them, which costs more than drawing the band.
+    """
+    ax.add_artist(band)
+
+
 def _edge_bar(ax, pair, plane_m: float, frame, ih, iv, height_of, colour) -> None:
     """The frame of one coil of ``pair`` seen edge-on: a bar of the frame's width centred on its
     plane (``plane_m`` along the axis), reaching the half-width plus half the frame depth."""
@@ -86,7 +97,7 @@ def _draw_pair(ax, pair, frame, ih, iv, height_of) -> None:
     colour = AXIS_COLOURS[pair.axis]
     a = AXES.index(pair.axis)
     if a not in (ih, iv):
-        ax.add_patch(_band_patch(pair, frame, ih, iv, height_of, colour))
+        _add_band(ax, _band_patch(pair, frame, ih, iv, height_of, colour))
     else:
         for sign in (-1.0, 1.0):
             _edge_bar(ax, pair, sign * pair.spacing_m / 2, frame, ih, iv, height_of, colour)
@@ -113,7 +124,7 @@ def _draw_coil_axis(ax, coil_axis: CoilAxis, frame, ih, iv, height_of) -> None:
         sign = 1.0 if coil.position_m >= 0 else -1.0
         if a not in (ih, iv):
             same = sum(1 for c in coil_axis.coils if c.size_m == coil.size_m)
-            ax.add_patch(_band_patch(pair, frame, ih, iv, height_of, colour, 1.0 - 0.55 ** (1.0 / same)))
+            _add_band(ax, _band_patch(pair, frame, ih, iv, height_of, colour, 1.0 - 0.55 ** (1.0 / same)))
         else:
             _edge_bar(ax, pair, float(coil.position_m), frame, ih, iv, height_of, colour)
         h, v = _project(_curve_points(pair, _CURVE_T, sign), ih, iv, height_of)
@@ -174,13 +185,13 @@ def cage_in_room_figure(cage: CoilCage | AxisCage, frame, room, test_volume_m, h
     span = {0: lim_h[0][1] - lim_h[0][0], 1: lim_h[1][1] - lim_h[1][0], 2: lim_v[1] - lim_v[0]}
 
     width_in = FIG_WIDTH_IN
-    # Panel heights follow the data spans so that every view keeps one scale.
-    usable_w = width_in - 1.0
-    scale_in_per_m = usable_w / (span[0] + span[1])
-    # The legend goes in the top-right cell, the sizes in words in a row below the views.
+    # The views are placed with fixed margins in inches (_ROOM_MARGINS_IN), at one scale
+    # (inches per metre) for all three, so that every view keeps the same scale. The legend goes
+    # in the top-right cell, the sizes in words in a row below the views.
+    left_in, right_in, wgap_in, top_in, gap1_in, gap2_in, bottom_in = _ROOM_MARGINS_IN
     info_h_in = 1.05
-    height_in = float(np.clip(scale_in_per_m * (span[1] + span[2]) + 1.3, 4.5, 9.8)) + info_h_in
-    legend_cols = 2 if usable_w * span[1] / (span[0] + span[1]) >= 2.6 else 1
+    usable_w = width_in - left_in - right_in - wgap_in
+    overhead_h = top_in + gap1_in + gap2_in + bottom_in + info_h_in
 
     pairs = sorted(units, key=lambda p: -p.half_width_m)
     views = {
@@ -189,14 +200,38 @@ def cage_in_room_figure(cage: CoilCage | AxisCage, frame, room, test_volume_m, h
         "side": (1, 2, "side view, seen from +x"),
     }
     with matplotlib.rc_context(_RC):
-        fig = _new_figure(width_in, height_in)
-        gs = fig.add_gridspec(3, 2, width_ratios=[span[0], span[1]],
-                              height_ratios=[span[1], span[2], info_h_in / scale_in_per_m])
-        ax_top = fig.add_subplot(gs[0, 0])
-        ax_front = fig.add_subplot(gs[1, 0], sharex=ax_top)
-        ax_side = fig.add_subplot(gs[1, 1], sharey=ax_front)
-        ax_legend = fig.add_subplot(gs[0, 1])
-        ax_info = fig.add_subplot(gs[2, :])
+        fig = _new_figure(width_in, 4.5 + info_h_in)  # the height is set below
+        # Top, front and side views, the legend panel and the sizes panel, placed below once the
+        # legend is measured: its size (need_w, need_h) sets the least size of the top-right cell.
+        whole = (0.0, 0.0, 1.0, 1.0)
+        ax_top = fig.add_axes(whole)
+        ax_front = fig.add_axes(whole, sharex=ax_top)
+        ax_side = fig.add_axes(whole, sharey=ax_front)
+        ax_legend = fig.add_axes(whole)
+        scale_w = usable_w / (span[0] + span[1])
+        need_w, need_h = _legend_panel(ax_legend, units, room, usable_w - scale_w * span[0])
+        if scale_w * span[1] < need_w:  # a narrow side view: the views get smaller, the legend fits
+            scale_w = min(scale_w, (usable_w - need_w) / span[0])
+        # Panel heights follow the data spans so that every view keeps one scale.
+        height_in = float(np.clip(max(scale_w * span[1], need_h) + scale_w * span[2] + overhead_h - info_h_in,
+                                  4.5, 9.8)) + info_h_in
+        fig.set_size_inches(width_in, height_in)
+        usable_h = height_in - overhead_h
+        scale_in_per_m = min(scale_w, usable_h / (span[1] + span[2]))
+        if max(scale_in_per_m * span[1], need_h) + scale_in_per_m * span[2] > usable_h and usable_h > need_h:
+            scale_in_per_m = min(scale_in_per_m, (usable_h - need_h) / span[2])
+        w0, w1 = scale_in_per_m * span[0], scale_in_per_m * span[1]
+        h0, h1 = scale_in_per_m * span[1], scale_in_per_m * span[2]
+        col1_w, row0_h = max(w1, need_w), max(h0, need_h)
+        x0 = left_in + (usable_w - w0 - col1_w) / 2  # the views centred across the width
+        x1 = x0 + w0 + wgap_in
+        y1 = bottom_in + info_h_in + gap2_in + (usable_h - row0_h - h1) / 2  # front and side views
+        y0 = y1 + h1 + gap1_in  # top view (at the top of its row) and legend
+        ax_legend.set_position(box_at(fig, x1, y0, col1_w, row0_h))
+        ax_top.set_position(box_at(fig, x0, y0 + row0_h - h0, w0, h0))
+        ax_front.set_position(box_at(fig, x0, y1, w0, h1))
+        ax_side.set_position(box_at(fig, x1, y1, w1, h1))
+        ax_info = fig.add_axes(box_at(fig, 0.45, bottom_in, width_in - 0.45 - 0.05, info_h_in))
         for name, ax in (("top", ax_top), ("front", ax_front), ("side", ax_side)):
             ih, iv, title = views[name]
             # Room and clearance.
@@ -245,7 +280,7 @@ def cage_in_room_figure(cage: CoilCage | AxisCage, frame, room, test_volume_m, h
             else:
                 ax.set_ylim(*lim_h[iv])
             ax.set_aspect("equal", adjustable="box")
-            ax.set_title(title, fontsize=_FS["base"])
+            ax.set_title(title, fontsize=_FS["base"], y=1.0)  # y given: no auto placement (costly)
             ax.set_xlabel(f"{AXES[ih]} (m)")
             ax.set_ylabel(f"{AXES[iv]} (m)" if iv != 2 else
                           ("height above floor (m)" if room is not None
@@ -262,12 +297,18 @@ def cage_in_room_figure(cage: CoilCage | AxisCage, frame, room, test_volume_m, h
                      ha="left", va="center", fontsize=_FS["small"], color="0.15",
                      bbox=dict(facecolor="white", edgecolor="none", pad=0.6, alpha=0.8))
 
-        _legend_panel(ax_legend, units, room, legend_cols)
         _info_panel(ax_info, units, frame, room, env, inner, tv)
         if heading_deg is not None:
             _north_arrow(ax_top, heading_deg)
-        fig.suptitle("The cage in the room", fontsize=_FS["title"])
+        fig.suptitle("The cage in the room", fontsize=_FS["title"], y=1.0 - 0.06 / height_in, va="top")
     return _finish(fig)
+
+
+# Margins of the cage-in-room figure in inches: left (tick labels and y label), right, between
+# the two columns (the side view's y label), top (the title and the first views' titles),
+# between the rows of views (the top view's x label and the front view's title), between the
+# views and the sizes in words, bottom.
+_ROOM_MARGINS_IN = (0.62, 0.1, 0.64, 0.52, 0.66, 0.45, 0.05)
 
 
 def _north_arrow(ax, heading_deg: float) -> None:
@@ -292,8 +333,11 @@ def _north_arrow(ax, heading_deg: float) -> None:
             bbox=dict(facecolor="white", edgecolor="none", pad=0.6, alpha=0.8))
 
 
-def _legend_panel(ax, units, room, ncol: int) -> None:
-    """The legend and the frame's directions, in an axis-less panel."""
+def _legend_panel(ax, units, room, width_in: float) -> tuple[float, float]:
+    """The legend and the frame's directions, in an axis-less panel; (width, height) it needs, in inches.
+
+    Two legend columns when they fit in ``width_in`` inches, else one.
+    """
     ax.set_axis_off()
     handles = [Patch(facecolor=AXIS_COLOURS[p.axis], alpha=0.45, edgecolor=AXIS_COLOURS[p.axis],
                      label=f"{driven_name(p)} frames") for p in units]
@@ -302,11 +346,19 @@ def _legend_panel(ax, units, room, ncol: int) -> None:
         handles.append(Line2D([], [], color="black", linewidth=2.2, label="room walls"))
         handles.append(Line2D([], [], color="0.35", linestyle="--", linewidth=1.0, label="clearance"))
     handles.append(Line2D([], [], color="0.45", linestyle=":", linewidth=1.0, label="envelope"))
-    ax.legend(handles=handles, loc="upper left", ncol=ncol, frameon=False, fontsize=_FS["small"],
-              handlelength=1.6, borderaxespad=0.0)
-    ax.text(0.0, 0.0, "cage frame: x toward the heading,\ny 90° clockwise from x seen from above,\n"
-            "z down", transform=ax.transAxes, ha="left", va="bottom", fontsize=_FS["small"],
-            color="0.25", linespacing=1.4)
+    fig = ax.figure
+    legend = ax.legend(handles=handles, loc="upper left", ncol=2, frameon=False, fontsize=_FS["small"],
+                       handlelength=1.6, borderaxespad=0.0)
+    legend_w, legend_h = extent_in(fig, legend)
+    if legend_w > width_in:  # too wide for two columns
+        legend = ax.legend(handles=handles, loc="upper left", ncol=1, frameon=False, fontsize=_FS["small"],
+                           handlelength=1.6, borderaxespad=0.0)
+        legend_w, legend_h = extent_in(fig, legend)
+    note = ax.text(0.0, 0.0, "cage frame: x toward the heading,\ny 90° clockwise from x seen from above,\n"
+                   "z down", transform=ax.transAxes, ha="left", va="bottom", fontsize=_FS["small"],
+                   color="0.25", linespacing=1.4)
+    note_w, note_h = extent_in(fig, note)
+    return max(legend_w, note_w) + 0.05, legend_h + 0.15 + note_h
 
 
 def _info_panel(ax, units, frame, room, env, inner, tv) -> None:
@@ -346,5 +398,9 @@ def _info_panel(ax, units, frame, room, env, inner, tv) -> None:
                  f"(along the axis × radial), gap {frame.gap_m * 1000:.0f} mm")
     ax.text(0.0, 1.0, "\n".join(left), transform=ax.transAxes, ha="left", va="top",
             fontsize=_FS["small"], color=colour, linespacing=1.5, gid="sizes")
-    ax.text(0.51, 1.0, "\n".join(right), transform=ax.transAxes, ha="left", va="top",
-            fontsize=_FS["small"], linespacing=1.5, gid="pairs")
+    pairs = ax.text(0.51, 1.0, "\n".join(right), transform=ax.transAxes, ha="left", va="top",
+                    fontsize=_FS["small"], linespacing=1.5, gid="pairs")
+    # Long lines (large sizes, many turns): the right column starts further left, so that it ends
+    # inside the figure.
+    panel_w_in = ax.get_position().width * ax.figure.get_size_inches()[0]
+    pairs.set_x(min(0.51, 1.0 - extent_in(ax.figure, pairs)[0] / panel_w_in))

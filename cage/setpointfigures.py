@@ -15,7 +15,7 @@ from cage.coils import AXES
 from cage.comparefigure import _num_or_nan
 from cage.errors import InputError
 from cage.escape import for_figure
-from cage.figurestyle import AXIS_COLOURS, FIG_WIDTH_IN, _FS, _RC, _finish, _new_figure
+from cage.figurestyle import AXIS_COLOURS, FIG_WIDTH_IN, _FS, _RC, _finish, _new_figure, extent_in, grid_box, wrapped
 
 
 # ---------------------------------------------------------------------------------------------
@@ -113,8 +113,12 @@ def setpoints_figure(doc: dict) -> Figure:
     w = 0.26
     rotate = nrow > 6 or max(len(s) for s in labels) > 10
     with matplotlib.rc_context(_RC):
-        fig = _new_figure(FIG_WIDTH_IN, 6.2 if rotate else 5.6)
-        ax_i, ax_p = fig.subplots(2, 1, sharex=True)
+        height_in = 6.2 if rotate else 5.6
+        fig = _new_figure(FIG_WIDTH_IN, height_in)
+        gs = fig.add_gridspec(2, 1, **grid_box(fig, _SETPOINT_LEFT_IN, 2.0, 0.4, 0.6, nrows=2, hgap_in=0.14))
+        ax_i = fig.add_subplot(gs[0])
+        ax_p = fig.add_subplot(gs[1], sharex=ax_i)
+        ax_i.tick_params(labelbottom=False)
         for j, a in enumerate(AXES):
             colour = AXIS_COLOURS[a]
             hatch = ["////" if not good else "" for good in ok]
@@ -146,8 +150,8 @@ def setpoints_figure(doc: dict) -> Figure:
         if unipolar:
             handles.append(Line2D([], [], linestyle="none"))
             labs.append(f"{', '.join(unipolar)}: unipolar supply,\nnegative current needs\na polarity switch")
-        ax_i.legend(handles, labs, loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=_FS["small"],
-                    frameon=False)
+        legend_i = ax_i.legend(handles, labs, loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=_FS["small"],
+                               frameon=False)
         ax_i.grid(True, axis="y", linewidth=0.4, alpha=0.5)
         ax_p.set_ylabel("power (W)")
         ax_p.grid(True, axis="y", linewidth=0.4, alpha=0.5)
@@ -162,12 +166,12 @@ def setpoints_figure(doc: dict) -> Figure:
                 ax_p.text(x[i], top_w + 0.03 * pmax,
                           f"{total[i]:.1f} W" if np.isfinite(total[i]) else "unreachable", ha="center",
                           va="bottom", fontsize=_FS["small"], rotation=90 if nrow > 8 else 0)
-        ax_p.legend(handles=[Patch(color=AXIS_COLOURS[a], label=f"{a} power") for a in AXES]
+        legend_p = ax_p.legend(handles=[Patch(color=AXIS_COLOURS[a], label=f"{a} power") for a in AXES]
                     + [Patch(facecolor="white", edgecolor="0.3", hatch="////",
                              label="outside supply limits")],
                     loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=_FS["small"], frameon=False)
         ax_p.set_xticks(x)
-        ax_p.set_xticklabels([lab if good else f"{lab} (!)" for lab, good in zip(labels, ok)],
+        ax_p.set_xticklabels([_short(lab) if good else f"{_short(lab)} (!)" for lab, good in zip(labels, ok)],
                              rotation=45 if rotate else 0, ha="right" if rotate else "center")
         for tick, good in zip(ax_p.get_xticklabels(), ok):
             if not good:
@@ -180,8 +184,44 @@ def setpoints_figure(doc: dict) -> Figure:
         source = for_figure(doc.get("source", ""))
         parts = [p for p in (site, when) if p]
         title = "Setpoints" + (": " + ", ".join(parts) if parts else "") + (f" ({source})" if source else "")
+        # Margins from the texts that depend on the data: the legends (right), the title
+        # (wrapped to the panel's width, top), the row labels (below; turned labels also reach
+        # left of the first bar).
+        right_in = 0.12 + max(extent_in(fig, legend_i)[0], extent_in(fig, legend_p)[0]) + 0.06
+        panel_w_in = FIG_WIDTH_IN - _SETPOINT_LEFT_IN - right_in
+        title = wrapped(fig, title, _FS["title"], panel_w_in + 0.5 * right_in)
         ax_i.set_title(title, fontsize=_FS["title"])
+        top_in = 0.06 + extent_in(fig, ax_i.title)[1] + 0.08  # the title's pad is 6 pt
+        sizes = [extent_in(fig, tick) for tick in ax_p.get_xticklabels()]
+        bottom_in = 0.08 + max(h for _, h in sizes) + 0.06 + 0.2  # tick marks and padding, labels, x label
+        left_in = _SETPOINT_LEFT_IN
+        for _ in range(2 if rotate else 0):  # each turned label ends at its row and reaches left from there
+            panel_w_in = FIG_WIDTH_IN - left_in - right_in
+            reach = max(w - (0.6 + i) / (nrow + 0.2) * panel_w_in for i, (w, _) in enumerate(sizes))
+            left_in = max(_SETPOINT_LEFT_IN, reach + 0.1)
+        hgap_in = 0.14
+        for _ in range(2):  # the second pass: room for the power panel's texts that rise above it
+            gs.update(**grid_box(fig, left_in, right_in, top_in, bottom_in, nrows=2, hgap_in=hgap_in))
+            for ax in (ax_i, ax_p):  # GridSpec.update moves the axes of pyplot figures only
+                ax.set_position(ax.get_subplotspec().get_position(fig))
+            top_px = ax_p.get_position().y1 * height_in * fig.dpi
+            rise_in = max([extent_top - top_px for extent_top in
+                           (t.get_window_extent(fig.canvas.get_renderer()).y1 for t in ax_p.texts)] + [0.0]) / fig.dpi
+            if rise_in <= 0.0:
+                break
+            hgap_in = 0.14 + rise_in
     return _finish(fig)
+
+
+# Left margin of the setpoints figure (in): tick labels of up to six digits and the y label.
+_SETPOINT_LEFT_IN = 0.72
+
+# Row labels longer than this are shortened in the figure (the tables keep them whole).
+_LABEL_CHARS = 40
+
+
+def _short(label: str) -> str:
+    return label if len(label) <= _LABEL_CHARS else label[:_LABEL_CHARS - 1].rstrip() + "…"
 
 
 def sequence_figure(t_s, currents_A, max_current_A, failing_steps=()) -> Figure:
@@ -211,7 +251,9 @@ def sequence_figure(t_s, currents_A, max_current_A, failing_steps=()) -> Figure:
 
     with matplotlib.rc_context(_RC):
         fig = _new_figure(FIG_WIDTH_IN, 5.8)
-        axes = fig.subplots(3, 1, sharex=True)
+        gs = fig.add_gridspec(3, 1, **grid_box(fig, _SETPOINT_LEFT_IN, 1.6, 0.4, 0.5, nrows=3, hgap_in=0.14))
+        axes = gs.subplots(sharex=True)
+        legends = []
         for j, (ax, a) in enumerate(zip(axes, AXES)):
             colour = AXIS_COLOURS[a]
             if fail.size:
@@ -229,12 +271,18 @@ def sequence_figure(t_s, currents_A, max_current_A, failing_steps=()) -> Figure:
             ax.set_ylim(-top, top)
             ax.set_ylabel(f"{a} current (A)")
             ax.grid(True, linewidth=0.4, alpha=0.5)
-            ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=_FS["small"],
-                      frameon=False)
+            legends.append(ax.legend(loc="upper left", bbox_to_anchor=(1.01, 1.0), fontsize=_FS["small"],
+                                     frameon=False))
         if t.size > 1:
             axes[0].set_xlim(t[0], t[-1])
         axes[-1].set_xlabel("time (s)")
         axes[0].set_title("Sequence currents and supply limits"
                           + (f": {fail.size} step(s) the supplies cannot follow" if fail.size else ""),
                           fontsize=_FS["title"])
+        # Margins: the legends (right, as measured), the title (top), tick labels and x label.
+        right_in = 0.12 + max(extent_in(fig, legend)[0] for legend in legends) + 0.06
+        top_in = 0.06 + extent_in(fig, axes[0].title)[1] + 0.08
+        gs.update(**grid_box(fig, _SETPOINT_LEFT_IN, right_in, top_in, 0.5, nrows=3, hgap_in=0.14))
+        for ax in axes:  # GridSpec.update moves the axes of pyplot figures only
+            ax.set_position(ax.get_subplotspec().get_position(fig))
     return _finish(fig)

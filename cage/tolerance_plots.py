@@ -9,11 +9,19 @@ def uniformity_spread_figure(mc, title: str = ""):
 
     mc: a ``cage.tolerance.MonteCarlo``. title: already escaped for a figure.
     """
-    from cage.figurestyle import _finish, _new_figure
+    from cage.figurestyle import _finish, _new_figure, extent_in, grid_box, wrapped
 
     fig = _new_figure(11.0, 3.6)
-    first = fig.add_subplot(1, 3, 1)
-    axes = [first, fig.add_subplot(1, 3, 2, sharey=first), fig.add_subplot(1, 3, 3, sharey=first)]
+    # Margins in inches: tick labels and the y label left, each panel's tick labels between
+    # panels, the figure's title (wrapped to the width, measured) and the panels' titles on
+    # top, tick labels and x labels below.
+    sup = fig.suptitle(wrapped(fig, title or f"{mc.samples} built cages, all axes meet the requirement: "
+                                               f"{100.0 * mc.yield_share:.1f} %", 12.0, 10.6),
+                       y=1.0 - 0.06 / 3.6, va="top")
+    top_in = 0.06 + extent_in(fig, sup)[1] + 0.1 + 0.3
+    gs = fig.add_gridspec(1, 3, **grid_box(fig, 0.72, 0.15, top_in, 0.5, ncols=3, wgap_in=0.5))
+    first = fig.add_subplot(gs[0])
+    axes = [first, fig.add_subplot(gs[1], sharey=first), fig.add_subplot(gs[2], sharey=first)]
     req_pct = 100.0 * mc.uniformity
     for ax, spread in zip(axes, mc.axes):
         dev_pct = 100.0 * spread.deviation
@@ -25,6 +33,4 @@ def uniformity_spread_figure(mc, title: str = ""):
         ax.set_xlabel("uniformity over the test volume (%)")
     axes[0].set_ylabel("built cages")
     axes[0].legend(loc="upper right", fontsize=8)
-    fig.suptitle(title or f"{mc.samples} built cages, all axes meet the requirement: "
-                          f"{100.0 * mc.yield_share:.1f} %")
     return _finish(fig)
