@@ -136,7 +136,8 @@ def png_bytes(fig: Figure, dpi: int = DEFAULT_DPI) -> bytes:
     if fig.canvas is None or not isinstance(fig.canvas, FigureCanvasAgg):
         FigureCanvasAgg(fig)
     buf = io.BytesIO()
-    fig.savefig(buf, format="png", dpi=dpi, metadata={"Software": None})
+    # zlib level 1: the same pixels, files 5-15 % larger, a third less time compressing
+    fig.savefig(buf, format="png", dpi=dpi, metadata={"Software": None}, pil_kwargs={"compress_level": 1})
     return buf.getvalue()
 
 

@@ -305,7 +305,8 @@ def _closest(pa: CoilPair, pb: CoilPair) -> float:
     """
     if pa.shape == "square" and pb.shape == "square":
         sa = _square_segments(pa, 1.0)
-        return min(_segments_distance_m(*sa, *_square_segments(pb, sign)) for sign in (1.0, -1.0))
+        (p1, d1), (p2, d2) = _square_segments(pb, 1.0), _square_segments(pb, -1.0)
+        return _segments_distance_m(*sa, np.vstack([p1, p2]), np.vstack([d1, d2]))
     if pb.shape == "round":
         return min(_curve_to_circle_m(pa, 1.0, pb, sign) for sign in (1.0, -1.0))
     return min(_curve_to_circle_m(pb, sign, pa, 1.0) for sign in (1.0, -1.0))
