@@ -86,9 +86,11 @@ def test_one_plain_line_per_warning():
 def test_compare_json_sizes_are_sides_or_diameters(run_cli):
     run = run_cli("compare", SITES / "smallsat-lab.toml", "--sizes", "2.2", "--json", "--shape", "round")
     assert run.code == 0, run
-    row = json.loads(run.out)["rows"][0]
-    if not row["feasible"]:
-        pytest.skip("no round cage at this size")
+    # one row per coil system at this size (every system allowed): a round cage of some system
+    # fits here (no round pair does, with the site's 50 nT step limit)
+    rows = [r for r in json.loads(run.out)["rows"] if r["feasible"]]
+    assert rows, run.out
+    row = rows[0]
     assert row["size_kind"] == "diameter"
     sizes = row["centreline_sizes_m"]
     outer = max(sizes.values())
