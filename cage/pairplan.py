@@ -13,7 +13,7 @@ import numpy as np
 
 from cage.coils import AXES, CoilCage, CoilPair
 from cage.errors import InfeasibleError, InputError
-from cage.layout import check_layout, pair_extent_m, room_inner_m, smallest_nesting_size_m
+from cage.layout import check_layout, envelope_m, pair_extent_m, room_inner_m, smallest_nesting_size_m
 from cage.planinputs import (  # noqa: F401  (names kept importable from here)
     PACK_GRID_COILS, AxisPlan, INFLATIONS, LARGE_SUPPLY_FRACTION, MAX_SIZE_M, MAX_STEP_UPS, OBJECTIVES, Plan,
     PlanInputs, REFINED_CANDIDATES, SIZE_PRECISION, SPACINGS, UNIFORMITY_GRID, UNIFORMITY_MARGIN,
@@ -207,12 +207,12 @@ def _plan_pairs(inp: PlanInputs, finish: bool = True) -> Plan:
         if key in seen:
             return
         seen.add(key)
-        layout = check_layout(cage, frame, inp.room)
-        if not layout.fits_room:
-            over = np.array(layout.envelope_m) / np.array(layout.room_inner_m)
-            room_misses.append((float(np.max(over)), order, layout))
-            return
-        candidates.append((order, cage, layout, shape_of))
+        if inner_room is not None:  # the room first: it needs only the envelope, not the clearances
+            env = envelope_m(cage, frame)
+            if not np.all(env <= inner_room + 1e-12):
+                room_misses.append((float(np.max(env / inner_room)), order, env))
+                return
+        candidates.append((order, cage, check_layout(cage, frame, inp.room), shape_of))
 
     for order in orders:
         for shapes in itertools.product(inp.shapes, repeat=3):
@@ -234,9 +234,9 @@ def _plan_pairs(inp: PlanInputs, finish: bool = True) -> Plan:
     candidates = [c[:3] for c in candidates]
 
     if not candidates:
-        over, order, layout = min(room_misses, key=lambda m: m[0])
-        env = " x ".join(f"{v:.2f}" for v in layout.envelope_m)
-        room = " x ".join(f"{v:.2f}" for v in layout.room_inner_m)
+        over, order, envelope = min(room_misses, key=lambda m: m[0])
+        env = " x ".join(f"{v:.2f}" for v in envelope)
+        room = " x ".join(f"{v:.2f}" for v in inner_room)
         raise InfeasibleError(
             f"nesting the three pairs (outermost {order[0]}, then {order[1]}, {order[2]}) for a "
             f"{_box(inp.test_volume_m)} test volume at {_pct(inp.uniformity)} needs an envelope of {env} m "
