@@ -184,7 +184,7 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
             best = AxisPlan(
                 pair=pair, wire=wire, electrics=el, supply=supply, drive=drive, needed_field_nT=need_nT,
                 full_current_A=current, field_per_amp_nT=k1_nT, field_step_nT=field_step_nT(supply, k1_nT),
-                uniformity_reached=box_deviation(pair, inp.test_volume_m, n_per_edge=UNIFORMITY_GRID),
+                uniformity_reached=deviations[(pair.size_m, pair.spacing_m)],  # as uniform_ok found it
                 min_uniform_size_m=min_uniform_size, frame_pair=geometry,
             )
     if best is not None:
