@@ -404,23 +404,29 @@ def _loop_local(zl, rho2, R, coef):
     return bzl, brho_over_rho
 
 
-def _loop_core(x, y, z, centre, normal, radius, current_A, bx, by, bz):
-    """Add the field of one circular loop to bx, by, bz (see the module docstring)."""
-    X = _vertex_rel(x, y, z, centre)[0]
-    n = tuple(float(c) for c in normal)
-    zl = _lin(n, X)
-    # rho vector = X - zl n, skipping what is exactly zero for an axis-aligned normal.
+def _rho_parts(X, n, zl):
+    """The components of rho = X - zl n (None where exactly zero: an axis-aligned normal) and
+    rho^2; n's components are numbers or per-source arrays (a batch)."""
     rho_v = []
     for i in range(3):
-        if n[i] == 0.0:
+        if isinstance(n[i], np.ndarray):
+            rho_v.append(X[i] - n[i] * zl)
+        elif n[i] == 0.0:
             rho_v.append(X[i])
         elif abs(n[i]) == 1.0:
             rho_v.append(None)
         else:
             rho_v.append(X[i] - n[i] * zl)
     rho2 = _sumsq(rho_v)
-    if rho2 is None:
-        rho2 = np.zeros_like(zl)
+    return rho_v, (np.zeros_like(zl) if rho2 is None else rho2)
+
+
+def _loop_core(x, y, z, centre, normal, radius, current_A, bx, by, bz):
+    """Add the field of one circular loop to bx, by, bz (see the module docstring)."""
+    X = _vertex_rel(x, y, z, centre)[0]
+    n = tuple(float(c) for c in normal)
+    zl = _lin(n, X)
+    rho_v, rho2 = _rho_parts(X, n, zl)
     bzl, brho_over_rho = _loop_local(zl, rho2, radius, MU0_T_M_PER_A * current_A / math.pi)
     comps = (bx, by, bz)
     for i in range(3):
@@ -552,19 +558,7 @@ def _loop_batch(x, y, z, setup, bx, by, bz):
     s, centre, n, R, coef = setup
     X = _batch_rel((x, y, z), centre)[0]
     zl = _lin(n, X)
-    rho_v = []
-    for i in range(3):
-        if isinstance(n[i], np.ndarray):
-            rho_v.append(X[i] - n[i] * zl)
-        elif n[i] == 0.0:
-            rho_v.append(X[i])
-        elif abs(n[i]) == 1.0:
-            rho_v.append(None)
-        else:
-            rho_v.append(X[i] - n[i] * zl)
-    rho2 = _sumsq(rho_v)
-    if rho2 is None:
-        rho2 = np.zeros_like(zl)
+    rho_v, rho2 = _rho_parts(X, n, zl)
     shape = (s, x.size)
     flat = lambda v: v if isinstance(v, float) else np.broadcast_to(v, shape).ravel()  # noqa: E731
     bzl, brho_over_rho = _loop_local(flat(zl), flat(rho2), flat(R), flat(coef))
