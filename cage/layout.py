@@ -76,24 +76,8 @@ class Layout:
 def _curve_points(pair: CoilPair, t: np.ndarray, sign: float = 1.0) -> np.ndarray:
     """Points (len(t), 3) on the centreline of one coil, parameter t in [0, 1)."""
     a = AXES.index(pair.axis)
-    u, v = (a + 1) % 3, (a + 2) % 3
-    pts = np.zeros((t.size, 3))
-    pts[:, a] = sign * pair.spacing_m / 2.0
-    if pair.shape == "round":
-        ang = 2.0 * np.pi * t
-        pts[:, u] = pair.size_m * np.cos(ang)
-        pts[:, v] = pair.size_m * np.sin(ang)
-        return pts
-    # Square: walk the four sides, corner to corner.
-    h = pair.size_m / 2.0
-    s = (t % 1.0) * 4.0
-    side = np.minimum(s.astype(int), 3)
-    f = s - side
-    corners = np.array([[h, -h], [h, h], [-h, h], [-h, -h], [h, -h]])
-    start, end = corners[side], corners[side + 1]
-    uv = start + (end - start) * f[:, None]
-    pts[:, u], pts[:, v] = uv[:, 0], uv[:, 1]
-    return pts
+    return _ring_points(a, _unit_curve(pair.shape, t), np.array([float(pair.size_m)]),
+                        np.array([sign * pair.spacing_m / 2.0]))[0]
 
 
 def _square_segments(pair: CoilPair, sign: float) -> tuple[np.ndarray, np.ndarray]:
@@ -177,7 +161,7 @@ _REFINE_MAX_POINTS = 65536
 
 def _unit_curve(shape: str, t: np.ndarray) -> np.ndarray:
     """(u, v) at parameters t in [0, 1), evenly spaced in arc length: the unit circle, or the
-    square of side 1 walked corner to corner as ``_curve_points``."""
+    square of side 1 walked corner to corner (the parameter of every centreline here)."""
     if shape == "round":
         return np.stack([np.cos(2.0 * np.pi * t), np.sin(2.0 * np.pi * t)], axis=-1)
     s = (t % 1.0) * 4.0
