@@ -66,8 +66,23 @@ for _module in (cmd_field, cmd_design, cmd_setpoints, cmd_calibrate, cmd_sequenc
 
 # ----------------------------------------------------------------------------- entry point
 
+def _short_lived_gc() -> None:
+    """Fewer cyclic garbage collections for a one-shot command.
+
+    The default thresholds (700 allocations per young collection) make the collector walk
+    matplotlib's and numpy's many young objects hundreds of times per ``cage plan``: about
+    0.1-0.2 s of CPU (measured with ``gc.callbacks``). A command runs once and exits, and its
+    cyclic garbage (figures, mostly) is small, so the young generation is collected after
+    50,000 net allocations instead. Only the entry point does this, not an import of the package.
+    """
+    import gc
+
+    gc.set_threshold(50_000, 20, 20)
+
+
 def main(argv: Optional[list[str]] = None) -> None:
     """Run the command line; user errors end in one line on stderr and a non-zero exit."""
+    _short_lived_gc()
     try:
         from cage.outputs import trailing_slash_problem
 

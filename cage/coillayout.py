@@ -29,6 +29,7 @@ from cage.layout import (
     _curve_to_circle_m,
     _segments_distance_m,
     _square_segments,
+    square_sides,
     first_clear_size_m,
     layout_from,
     rings_clear,
@@ -114,13 +115,8 @@ def axis_clears(ax: CoilAxis, others, frame: FrameSpec) -> bool:
 
 def _square_axis_segments(ax: CoilAxis) -> tuple[np.ndarray, np.ndarray]:
     """Starts and directions (4 x coils, 3) of the sides of every square coil of ``ax``."""
-    starts, dirs = [], []
-    for c in ax.coils:
-        pair, sign = _as_pair(ax, c)
-        p, d = _square_segments(pair, sign)
-        starts.append(p)
-        dirs.append(d)
-    return np.vstack(starts), np.vstack(dirs)
+    return square_sides(AXES.index(ax.axis), np.array([float(c.size_m) for c in ax.coils]),
+                        np.array([float(c.position_m) for c in ax.coils]))
 
 
 def _curves_and_circles(ax_a: CoilAxis, ax_b: CoilAxis):

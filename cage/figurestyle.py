@@ -135,9 +135,18 @@ def png_bytes(fig: Figure, dpi: int = DEFAULT_DPI) -> bytes:
         raise InputError(f"expected a matplotlib Figure, got {type(fig).__name__}")
     if fig.canvas is None or not isinstance(fig.canvas, FigureCanvasAgg):
         FigureCanvasAgg(fig)
+    from PIL import Image
+
+    # Drawn at the output's dpi on the figure's own canvas (what savefig does for the time of
+    # the call; a figure here is rendered once). An opaque figure is stored as RGB: the same
+    # pixels, a quarter fewer bytes to compress. zlib level 1: files 5-15 % larger than at the
+    # default level, a third less time compressing.
+    fig.set_dpi(dpi)
+    fig.canvas.draw()
+    rgba = np.asarray(fig.canvas.buffer_rgba())
+    image = Image.fromarray(np.ascontiguousarray(rgba[..., :3]) if np.all(rgba[..., 3] == 255) else rgba.copy())
     buf = io.BytesIO()
-    # zlib level 1: the same pixels, files 5-15 % larger, a third less time compressing
-    fig.savefig(buf, format="png", dpi=dpi, metadata={"Software": None}, pil_kwargs={"compress_level": 1})
+    image.save(buf, format="png", compress_level=1, dpi=(dpi, dpi))
     return buf.getvalue()
 
 

@@ -82,8 +82,15 @@ def _curve_points(pair: CoilPair, t: np.ndarray, sign: float = 1.0) -> np.ndarra
 
 def _square_segments(pair: CoilPair, sign: float) -> tuple[np.ndarray, np.ndarray]:
     """Start points and direction vectors (4, 3) of the four sides of one square coil."""
-    corners = _curve_points(pair, np.arange(5) / 4.0, sign)
-    return corners[:-1], corners[1:] - corners[:-1]
+    return square_sides(AXES.index(pair.axis), np.array([float(pair.size_m)]),
+                        np.array([sign * pair.spacing_m / 2.0]))
+
+
+def square_sides(a: int, sizes_m: np.ndarray, positions_m: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """Start points and direction vectors (4 x coils, 3) of the sides of square coils on axis
+    index a (sides sizes_m, planes at positions_m), walked as ``_unit_curve`` walks the square."""
+    corners = _ring_points(a, _SQUARE_CORNERS, sizes_m, positions_m)  # (coils, 5, 3)
+    return corners[:, :-1].reshape(-1, 3), np.diff(corners, axis=1).reshape(-1, 3)
 
 
 def _segments_distance_m(p1: np.ndarray, d1: np.ndarray, p2: np.ndarray, d2: np.ndarray) -> float:
@@ -172,6 +179,8 @@ def _unit_curve(shape: str, t: np.ndarray) -> np.ndarray:
 
 
 _UNIT = {shape: _unit_curve(shape, np.arange(DECISION_SAMPLES) / DECISION_SAMPLES) for shape in ("round", "square")}
+
+_SQUARE_CORNERS = _unit_curve("square", np.arange(5) / 4.0)  # the four corners, the first again at the end
 
 
 def _perimeter_m(shape: str, size_m: float) -> float:

@@ -212,7 +212,8 @@ def _plan_pairs(inp: PlanInputs, finish: bool = True) -> Plan:
             if not np.all(env <= inner_room + 1e-12):
                 room_misses.append((float(np.max(env / inner_room)), order, env))
                 return
-        candidates.append((order, cage, check_layout(cage, frame, inp.room), shape_of))
+        # the exact clearances of the Layout only for the plan chosen (nesting has kept them)
+        candidates.append((order, cage, envelope_m(cage, frame), shape_of))
 
     for order in orders:
         for shapes in itertools.product(inp.shapes, repeat=3):
@@ -222,7 +223,7 @@ def _plan_pairs(inp: PlanInputs, finish: bool = True) -> Plan:
 
     # Greedy nesting is not always best: a slightly larger inner pair can let an outer pair
     # shrink. Try inflated inner pairs for the few smallest candidates.
-    smallest = sorted(range(len(candidates)), key=lambda i: (float(np.prod(candidates[i][2].envelope_m)), i))
+    smallest = sorted(range(len(candidates)), key=lambda i: (float(np.prod(candidates[i][2])), i))
     for i in smallest[:REFINED_CANDIDATES]:
         order, cage0, _, shape_of = candidates[i]
         bound = [p.size_m > uniform[(p.axis, p.shape)][0] * (1 + 1e-9) for p in cage0.pairs]
@@ -246,7 +247,7 @@ def _plan_pairs(inp: PlanInputs, finish: bool = True) -> Plan:
     best = None
     best_key = None
     failures = []
-    for index, (order, cage, layout) in enumerate(candidates):
+    for index, (order, cage, envelope) in enumerate(candidates):
         axes = []
         for pair in cage.pairs:
             key = (pair.axis, pair.shape, pair.size_m, pair.spacing_m)
@@ -261,7 +262,7 @@ def _plan_pairs(inp: PlanInputs, finish: bool = True) -> Plan:
             continue
         power = sum(a.drive.power_W for a in axes)
         mass = sum(a.electrics.copper_mass_kg for a in axes)
-        volume = float(np.prod(layout.envelope_m))
+        volume = float(np.prod(envelope))
         if inp.minimise == "power":
             key = (round(power, 9), round(volume, 12), index)
         elif inp.minimise == "mass":
@@ -269,11 +270,12 @@ def _plan_pairs(inp: PlanInputs, finish: bool = True) -> Plan:
         else:
             key = (round(volume, 12), round(power, 9), index)
         if best_key is None or key < best_key:
-            best_key, best = key, (order, tuple(axes), layout, power, mass)
+            best_key, best = key, (order, tuple(axes), cage, power, mass)
     if best is None:
         badness, reason = min(failures, key=lambda f: f[0])
         raise InfeasibleError(reason)
-    order, axes, layout, power, mass = best
+    order, axes, cage, power, mass = best
+    layout = check_layout(cage, frame, inp.room)
     plan = Plan(axes=axes, layout=layout, order=tuple(order) if inp.axis_order else layout.order,
                 minimise=inp.minimise, spacing=inp.spacing, total_power_W=power, copper_mass_kg=mass)
     return finish_plan(plan, inp) if finish else plan

@@ -178,7 +178,8 @@ def plan_with_systems(inp):
     axes not pairs carry ``coil_axis``), or InfeasibleError naming the closest miss."""
     from cage.axissizing import smallest_uniform_axis
     from cage.coilaxis import AxisCage
-    from cage.coillayout import axis_extent_m, check_axes_layout, smallest_nesting_axis_size_m
+    from cage.coillayout import axes_envelope_m, axis_extent_m, check_axes_layout, smallest_nesting_axis_size_m
+    from cage.layout import room_inner_m
     from cage.coilsystems import system_axis, systems_for_shape
     from cage.pairplan import MAX_SIZE_M, Plan, _plan_pairs, finish_plan
 
@@ -263,6 +264,7 @@ def plan_with_systems(inp):
     orders = [inp.axis_order] if inp.axis_order else list(itertools.permutations(AXES))
     nest_cache: dict = {}
     room_misses = []
+    inner_room = None if inp.room is None else room_inner_m(inp.room)
     nestings = 0
     for bound, _, combo in combos:
         if best_key is not None and bound >= best_key:
@@ -310,10 +312,10 @@ def plan_with_systems(inp):
             nestings += 1
             by_axis = {p.axis: p for p in placed}
             cage1 = AxisCage(by_axis["x"], by_axis["y"], by_axis["z"])
-            layout = check_axes_layout(cage1, frame, inp.room)
-            if not layout.fits_room:
-                over = np.array(layout.envelope_m) / np.array(layout.room_inner_m)
-                room_misses.append((float(np.max(over)), order, layout, combo))
+            # the room first (the envelope alone); the exact clearances only for a new best
+            env = axes_envelope_m(cage1, frame)
+            if inner_room is not None and not np.all(env <= inner_room + 1e-12):
+                room_misses.append((float(np.max(env / inner_room)), order, env, combo))
                 continue
             plans = []
             for ax in cage1.axes:
@@ -329,17 +331,18 @@ def plan_with_systems(inp):
                 continue
             power = sum(p.drive.power_W for p in plans)
             mass = sum(p.electrics.copper_mass_kg for p in plans)
-            key = _objective(inp, power, mass, float(np.prod(layout.envelope_m)))
+            key = _objective(inp, power, mass, float(np.prod(env)))
             if best_key is None or key < best_key:
                 best_key = key
+                layout = check_axes_layout(cage1, frame, inp.room)
                 best = Plan(axes=tuple(plans), layout=layout,
                             order=tuple(order) if inp.axis_order else layout.order,
                             minimise=inp.minimise, spacing=inp.spacing, total_power_W=power, copper_mass_kg=mass)
     if best is None:
         if room_misses:
-            over, order, layout, combo = min(room_misses, key=lambda m: m[0])
-            env = " x ".join(f"{v:.2f}" for v in layout.envelope_m)
-            room = " x ".join(f"{v:.2f}" for v in layout.room_inner_m)
+            over, order, envelope, combo = min(room_misses, key=lambda m: m[0])
+            env = " x ".join(f"{v:.2f}" for v in envelope)
+            room = " x ".join(f"{v:.2f}" for v in inner_room)
             kinds = ", ".join(f"{a} {o[0]} {o[1]}" for a, o in zip(AXES, combo))
             errors.append((over, f"the smallest nesting of the allowed coil systems ({kinds}; outermost "
                                  f"{order[0]}) for a {' x '.join(f'{v:g}' for v in box)} m test volume at "
