@@ -33,7 +33,14 @@ AXIS_COLOURS = {"x": "#c0392b", "y": "#23864b", "z": "#1f5fbf"}
 # Font sizes in points (at FIG_WIDTH_IN on paper, never below 8 pt).
 _FS = {"base": 8.5, "small": 8.0, "title": 9.5, "suptitle": 10.5}
 
+# Text drawn without hinting: at 150 dpi the glyphs look the same to the eye, and with
+# matplotlib 3.11's text layout each text draws in about two thirds of the time (measured:
+# 200 labels, 0.32 s hinted, 0.21 s unhinted). Used while a figure is built (its texts are
+# measured then) and while it is drawn (png_bytes), so both see the same glyphs.
+_RENDER_RC = {"text.hinting": "none"}
+
 _RC = {
+    **_RENDER_RC,
     "font.size": _FS["base"],
     "axes.titlesize": _FS["title"],
     "axes.labelsize": _FS["base"],
@@ -141,8 +148,11 @@ def png_bytes(fig: Figure, dpi: int = DEFAULT_DPI) -> bytes:
     # the call; a figure here is rendered once). An opaque figure is stored as RGB: the same
     # pixels, a quarter fewer bytes to compress. zlib level 1: files 5-15 % larger than at the
     # default level, a third less time compressing.
+    import matplotlib
+
     fig.set_dpi(dpi)
-    fig.canvas.draw()
+    with matplotlib.rc_context(_RENDER_RC):
+        fig.canvas.draw()
     rgba = np.asarray(fig.canvas.buffer_rgba())
     image = Image.fromarray(np.ascontiguousarray(rgba[..., :3]) if np.all(rgba[..., 3] == 255) else rgba.copy())
     buf = io.BytesIO()

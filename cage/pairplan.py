@@ -156,6 +156,7 @@ def _plan_pairs(inp: PlanInputs, finish: bool = True) -> Plan:
 
     orders = [inp.axis_order] if inp.axis_order else list(itertools.permutations(AXES))
     nest_cache: dict = {}
+    size_options: dict = {}
 
     def nested_size(axis: str, shape: str, inner: tuple[CoilPair, ...], lower: float) -> float:
         # the axes' names play no part in clearances (cage.layout.min_centreline_distance_m), so
@@ -191,7 +192,10 @@ def _plan_pairs(inp: PlanInputs, finish: bool = True) -> Plan:
         size0 = nested_size(axis, shape, placed, lower)
         if not math.isfinite(size0):
             return
-        for size in axis_size_options(axis, shape, size0, ratio, inp, safe[(axis, shape)]):
+        options_key = (axis, shape, size0, ratio)
+        if options_key not in size_options:  # the same nested size recurs across orders and shapes
+            size_options[options_key] = axis_size_options(axis, shape, size0, ratio, inp, safe[(axis, shape)])
+        for size in size_options[options_key]:
             if size > size0:
                 size = nested_size(axis, shape, placed, size)
                 if not math.isfinite(size):
