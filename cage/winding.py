@@ -135,7 +135,7 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
                  f"(at most {n_hi})")
             continue
 
-        def evaluate(n: int):
+        def evaluate(n: int, uniform: bool = True):
             pair, k1n = winding(wire, n)
             current = need_T / (k1n * n)
             el = axis_electrics(pair, wire, current, lead_length_m=inp.lead_length_m,
@@ -143,9 +143,17 @@ def choose_winding(axis: str, geometry: CoilPair, inp: PlanInputs, min_uniform_s
                                 ambient_temperature_C=inp.ambient_temperature_C)
             drive = check_drive(supply, current, el.resistance_hot_ohm, el.lead_resistance_ambient_ohm)
             hot_ok = el.temperature_converged and el.winding_temperature_C <= inp.max_winding_temperature_C
-            ok = drive.within_limits and hot_ok and uniform_ok(pair)
+            ok = drive.within_limits and hot_ok and (not uniform or uniform_ok(pair))
             return pair, current, el, drive, ok
 
+        if inp.minimise != "mass" and best_key is not None:
+            # Least power takes the most turns allowed: a wire whose top winding cannot beat the
+            # best so far is not chosen whatever its uniformity, so that check (the costly one)
+            # is skipped. The plan chosen is the same; only a refusal needs every wire's reason,
+            # and with a best in hand there is none.
+            _, _, el_top, drive_top, _ = evaluate(n_hi, uniform=False)
+            if (drive_top.power_W, el_top.copper_mass_kg) >= best_key:
+                continue
         top = evaluate(n_hi)
         if not top[4]:
             pair_top, current, el, drive, _ = top
