@@ -24,7 +24,7 @@ LAYERS: tuple[tuple[str, tuple[str, ...]], ...] = (
     )),
     ("files", (
         "textfile", "outputs", "atomicfile", "sitefile", "designfile", "calibrationfile", "measurements",
-        "targetfile", "elementfile", "setpointfile", "buildsheetfile", "pdfexport",
+        "targetfile", "elementfile", "setpointfile", "buildsheetfile", "pdfexport", "pngfile",
     )),
     ("pictures", (
         "figurestyle", "fieldfigures", "roomfigure", "comparefigure", "setpointfigures", "plots", "tolerance_plots", "orbitplots", "connectionfigure", "reporthtml", "reportsections", "report",
