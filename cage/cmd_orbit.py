@@ -88,7 +88,8 @@ def _attitude(mode: Optional[str], spin_axis: str, spin_rate_deg_s: Optional[flo
 
 
 def orbit_csv(result) -> str:
-    """The series CSV: t_s,x_nT,y_nT,z_nT (body frame), then lat_deg,lon_deg,alt_km,total_nT."""
+    """The series CSV: t_s,x_nT,y_nT,z_nT (body frame), then lat_deg,lon_deg,alt_km,total_nT
+    (``cage orbit`` ends it with its ``provenance_lines``)."""
     import numpy as np
 
     tr = result.track
@@ -176,7 +177,10 @@ def orbit(
                         f"drift by kilometres a day away from the epoch")
     for w in warnings:
         typer.echo(w, err=True)
-    text = orbit_csv(result)
+    source = series_identity(elements) if elements is not None else "the options " + ", ".join(
+        f"--{k.replace('_', '-')} {v}" for k, v in options.items() if v is not None)
+    text = orbit_csv(result) + "\n".join(provenance_lines(name, epoch_time, when, duration_s, step_s, att, source,
+                                                           ut1_utc_s, warnings)) + "\n"
     if plot is not None:
         from cage.escape import for_figure
         from cage.orbitplots import orbit_figure
@@ -205,15 +209,17 @@ def orbit(
 def read_orbit_series(path: Path):
     """The series of a ``cage orbit`` CSV for ``cage sequence --orbit``; ``-`` reads it from stdin.
 
-    Returns a :class:`cage.measurements.FieldSeries` in the cage frame (the body frame is the
-    frame the sensor on the bench is aligned with).
+    Returns (a :class:`cage.measurements.FieldSeries` in the cage frame (the body frame is the
+    frame the sensor on the bench is aligned with), the file's identity for the sequence's
+    provenance, ``cage.provenance.file_identity``).
     """
     import tempfile
 
     from cage.measurements import read_field_series_csv
 
     if str(path) != "-":
-        return read_field_series_csv(path, frame="cage")
+        series = read_field_series_csv(path, frame="cage")
+        return series, series_identity(path)
     data = sys.stdin.read(MAX_STDIN_BYTES + 1)
     if len(data) > MAX_STDIN_BYTES:
         raise InputError(f"stdin: more than {MAX_STDIN_BYTES} bytes of orbit series")
@@ -221,9 +227,47 @@ def read_orbit_series(path: Path):
         tmp = Path(folder) / "series.csv"
         tmp.write_text(data, encoding="utf-8")
         try:
-            return read_field_series_csv(tmp, frame="cage")
+            series = read_field_series_csv(tmp, frame="cage")
         except InputError as exc:
             raise InputError(str(exc).replace(str(tmp), "stdin")) from None
+    from cage.provenance import file_identity
+
+    return series, file_identity("stdin", data.encode("utf-8"))
+
+
+def series_identity(path: Path) -> str:
+    """``cage.provenance.file_identity`` of a series file already read and checked."""
+    from cage.provenance import file_identity
+
+    try:
+        return file_identity(Path(path).name, Path(path).read_bytes())
+    except OSError as exc:
+        raise InputError(f"{path}: cannot read it again ({exc.strerror or exc})") from None
+
+
+def provenance_lines(name: str, epoch, start, duration_s: float, step_s: float, attitude, source: str,
+                     ut1_utc_s: float, warnings=()) -> list[str]:
+    """The ``#`` lines that end an orbit series CSV: what it was computed from (the element set
+    or the options, the span, the attitude, the models and their libraries, this tool) and the
+    warnings in force. Every text from a file or the command line is made one safe line
+    (``cage.escape.one_line``); readers of the series skip ``#`` lines."""
+    from importlib import metadata
+
+    from cage.escape import one_line
+    from cage.provenance import model_library, tool_version
+
+    try:
+        sgp4 = f"sgp4 {metadata.version('sgp4')}"
+    except metadata.PackageNotFoundError:  # pragma: no cover - sgp4 is a dependency
+        sgp4 = "sgp4 (version unknown)"
+    lines = [
+        f"orbit: {one_line(name)}; elements epoch {epoch:%Y-%m-%dT%H:%M:%S} UTC; from {one_line(source)}",
+        f"span: {start:%Y-%m-%dT%H:%M:%S} UTC + {duration_s:g} s in steps of {step_s:g} s; UT1 - UTC {ut1_utc_s:g} s",
+        f"attitude: {one_line(attitude.describe())}; x_nT, y_nT, z_nT in the body frame",
+        f"model: IGRF-14 ({model_library()}); propagation: SGP4 ({sgp4}); written by {tool_version()}",
+    ]
+    lines += [one_line(w) if w.startswith("warning") else f"warning: {one_line(w)}" for w in warnings]
+    return ["# " + line for line in lines]
 
 
 def rate_lines(t_s, field_nT, rate_Hz: float, error_nT: float) -> list[str]:

@@ -60,6 +60,7 @@ def register(app: typer.Typer) -> None:
         from cage.frames import ned_to_cage
 
         dt = None
+        identity = ""  # the replayed series file, for the provenance
         if sphere is not None:
             from cage.sequence import fibonacci_sphere
 
@@ -86,10 +87,13 @@ def register(app: typer.Typer) -> None:
 
                 if series_frame not in (None, "cage"):
                     raise InputError("an orbit series is in the body frame, which is the cage frame; drop --series-frame")
-                data = read_orbit_series(orbit)
+                data, identity = read_orbit_series(orbit)
                 summary = rate_lines(data.t_s, data.field_nT, rate_Hz, latency_error_nT)
             else:
+                from cage.cmd_orbit import series_identity
+
                 data = read_field_series_csv(series, frame=series_frame)
+                identity = series_identity(series)
             steps = (float(data.t_s[-1]) - float(data.t_s[0])) * rate_Hz + 1
             if steps > MAX_SEQUENCE_STEPS:
                 raise InputError(f"{orbit or series}: {data.t_s[-1] - data.t_s[0]:g} s at {rate_Hz:g} Hz gives "
@@ -102,7 +106,8 @@ def register(app: typer.Typer) -> None:
             times = (t - t[0], dt)
         table = sequence_table(design_obj, site, ctx, targets, times, rate_Hz if dt is not None else None,
                                str(design_file),
-                               [w for w in summary if w.startswith("warning")] if orbit is not None else ())
+                               [w for w in summary if w.startswith("warning")] if orbit is not None else (),
+                               series_identity=identity)
         warnings = table.warnings
         for w in warnings:
             warn(w)

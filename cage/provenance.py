@@ -50,6 +50,17 @@ def content_hash(obj) -> str:
     return "sha256:" + hashlib.sha256(text.encode("utf-8")).hexdigest()[:16]
 
 
+def file_identity(name: str, data: bytes) -> str:
+    """A file as named and by content: ``name sha256:`` + the first 16 hex digits of SHA-256 over
+    its bytes (e.g. the series a sequence replays), so a file changed under the same name shows."""
+    return f"{_one_line(name)} sha256:{hashlib.sha256(data).hexdigest()[:16]}"
+
+
+def with_derived(prov: Provenance, **entries) -> Provenance:
+    """The record with more ``derived_from`` entries (empty ones left out)."""
+    return _replace(prov, derived_from={**prov.derived_from, **{k: v for k, v in entries.items() if v}})
+
+
 def design_id(design) -> str:
     """The identity of a design: the content hash of its axes (the cage as built)."""
     from cage.design import design_to_dict

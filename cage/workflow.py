@@ -426,14 +426,20 @@ def axis_circuits(design_obj, supplies, ambient_C, where: str = "design file"):
 
 
 def sequence_table(design_obj, site, ctx: SetpointContext, targets, times, rate_Hz: Optional[float] = None,
-                   where: str = "design file", extra_warnings=()):
+                   where: str = "design file", extra_warnings=(), series_identity: str = ""):
     """The setpoint table of a sequence.
 
     Directions of a sphere (``rate_Hz`` None): every row flagged against the supplies' limits.
     A time series replayed at ``rate_Hz``: each step checked against what the supplies can
     follow through the axis's L and R (cage.sequence.check_slew), failing steps flagged and
     named in one warning. extra_warnings (e.g. an orbit's rate summary) follow the table's own.
+    series_identity: the replayed series file (``cage.provenance.file_identity``), written into
+    the table's provenance as ``derived_from["series"]``.
     """
+    if series_identity:
+        from cage.provenance import with_derived
+
+        ctx = dataclasses.replace(ctx, provenance=with_derived(ctx.provenance, series=series_identity))
     table = table_of(design_obj, site, ctx, targets, times)
     warnings = list(table.warnings)
     if rate_Hz is not None:
