@@ -9,7 +9,9 @@ Prints the medians and the target of each (issue 15): ``cage --help`` under 0.15
 ``cage field`` under 0.4 s, ``cage plan`` on each demo site under 3 s of CPU. The other
 commands (design, compare, setpoints, sequence) have no target and are printed for tracking.
 On a loaded machine the wall time says more about the load than about the program; the CPU
-time is the number to compare. --quick: one run each, fewer compare sizes.
+time is the number to compare. A fixed workload with no cage in it runs in the same rounds;
+each command's CPU is also printed as a multiple of it, comparable between runs at different
+times. --quick: one run each, fewer compare sizes.
 
 Before timing, the package's modules are compiled to bytecode once (``compileall``), as
 ``pip install`` does for an installed package: with PYTHONDONTWRITEBYTECODE set (as on the
@@ -37,12 +39,22 @@ SCRIPT = Path(sys.executable).parent / "cage"
 COMMAND = [str(SCRIPT)] if SCRIPT.exists() else [sys.executable, "-m", "cage"]
 
 
-def run_once(args: list[str]) -> tuple[float, float]:
-    """(CPU s, wall s) of one ``cage args`` in a fresh process."""
+# A fixed workload with no cage in it (interpreter, numpy import, a pure-Python loop, small
+# array arithmetic), timed in the same rounds: the machine's speed at the time, so that runs at
+# different times can be compared by the ratio to it.
+REFERENCE = [sys.executable, "-c",
+             "import numpy as np\n"
+             "s = sum(i * i for i in range(1_500_000))\n"
+             "a = np.arange(200_000.0)\n"
+             "for _ in range(200): a = np.sqrt(a * a + 1.0)\n"]
+
+
+def run_once(args: list[str], command: list[str] | None = None) -> tuple[float, float]:
+    """(CPU s, wall s) of one ``cage args`` (or ``command + args``) in a fresh process."""
     before = resource.getrusage(resource.RUSAGE_CHILDREN)
     t0 = time.perf_counter()
-    done = subprocess.run([*COMMAND, *args], cwd=ROOT, capture_output=True, text=True,
-                          env={**os.environ, "PYTHONPATH": str(ROOT)})
+    done = subprocess.run([*(COMMAND if command is None else command), *args], cwd=ROOT, capture_output=True,
+                          text=True, env={**os.environ, "PYTHONPATH": str(ROOT)})
     wall = time.perf_counter() - t0
     after = resource.getrusage(resource.RUSAGE_CHILDREN)
     if done.returncode != 0:
@@ -50,8 +62,8 @@ def run_once(args: list[str]) -> tuple[float, float]:
     return (after.ru_utime - before.ru_utime) + (after.ru_stime - before.ru_stime), wall
 
 
-def report(label: str, runs: list[tuple[float, float]], target: str = "", cpu_limit_s: float | None = None,
-           wall_limit_s: float | None = None) -> None:
+def report(label: str, runs: list[tuple[float, float]], reference_s: float, target: str = "",
+           cpu_limit_s: float | None = None, wall_limit_s: float | None = None) -> None:
     cpu = statistics.median(r[0] for r in runs)
     wall = statistics.median(r[1] for r in runs)
     verdict = ""
@@ -60,8 +72,9 @@ def report(label: str, runs: list[tuple[float, float]], target: str = "", cpu_li
     elif wall_limit_s is not None:
         verdict = ("met" if wall < wall_limit_s else "NOT met (wall)") + \
                   (", CPU " + ("met" if cpu < wall_limit_s else "not met"))
-    print(f"{label:<40} CPU {cpu:6.2f} s (least {min(r[0] for r in runs):5.2f})   wall {wall:6.2f} s   "
-          f"(median of {len(runs)})" + (f"   target {target}: {verdict}" if target else ""), flush=True)
+    print(f"{label:<40} CPU {cpu:6.2f} s (least {min(r[0] for r in runs):5.2f}, {cpu / reference_s:5.2f} x ref.)   "
+          f"wall {wall:6.2f} s   (median of {len(runs)})" + (f"   target {target}: {verdict}" if target else ""),
+          flush=True)
 
 
 def main() -> None:
@@ -96,11 +109,16 @@ def main() -> None:
         # Round by round, every command once per round: a slow spell of the machine then falls on
         # every command alike instead of on one command's runs.
         runs: dict[str, list] = {label: [] for label, _, _ in jobs}
+        reference = []
         for _ in range(n):
+            reference.append(run_once([], REFERENCE)[0])
             for label, args, _ in jobs:
                 runs[label].append(run_once(args))
+    reference_s = statistics.median(reference)
+    print(f"reference workload (no cage: numpy import, a Python loop, array arithmetic): CPU {reference_s:.2f} s "
+          f"(least {min(reference):.2f}); 0.33-0.39 s on this VM in December 2026")
     for label, _, keywords in jobs:
-        report(label, runs[label], **keywords)
+        report(label, runs[label], reference_s, **keywords)
 
 
 if __name__ == "__main__":
