@@ -1,6 +1,6 @@
 """Many filament sources at once, their fields summed per group (one group = one coil system of
 one Monte Carlo sample): straight segments and circular loops, with the kernels of
-``cage.biot_savart`` (the published closed forms cited there). Physics layer.
+``cage.filamentkernels`` (the published closed forms cited there). Physics layer.
 
 Units: points and geometry in metres, currents in amperes, fields in tesla.
 """
@@ -10,7 +10,8 @@ import math
 
 import numpy as np
 
-from cage.biot_savart import MU0_T_M_PER_A, _as_points, _loop_local, _segment_core, _sumsq
+from cage.biot_savart import _as_points
+from cage.filamentkernels import MU0_T_M_PER_A, _loop_local, _segment_core, _sumsq
 
 BATCH_ELEMENTS = 200_000
 """Source-point pairs evaluated at once by the batch functions; bounds their working memory."""

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 LAYERS: tuple[tuple[str, tuple[str, ...]], ...] = (
     ("physics", (
-        "errors", "checks", "escape", "numberformat", "columnformat", "frames", "igrf", "geomag", "elliptic", "biot_savart",
+        "errors", "checks", "escape", "numberformat", "columnformat", "frames", "igrf", "geomag", "elliptic", "filamentkernels", "biot_savart",
         "samplepoints", "batchfield", "coils", "coilaxis", "coilsystems", "uniformity", "wires", "inductance", "thermal",
         "electrical", "supplies", "site", "orbit", "attitude", "fieldrate", "layers",
     )),
