@@ -80,6 +80,31 @@ def same_site(a, b) -> bool:
             and abs(float(a[2]) - float(b[2])) <= SAME_SITE_ALTITUDE_M)
 
 
+def site_move_note(design_site: dict | None, location, place: str = "") -> str:
+    """The note shown when a design is used away from where it was planned (not
+    :func:`same_site`): that site, how far away it is, and that the currents come from the
+    field here. Empty at the same site, or when the design records no position.
+
+    design_site: the design's ``site`` record (``name``, ``latitude_deg``, ``longitude_deg``,
+    ``altitude_m``); location: this use's (``latitude_deg``, ``longitude_deg``, ``altitude_m``);
+    place: this use's site name.
+    """
+    from cage.escape import one_line
+
+    try:
+        then = tuple(float(design_site[k]) for k in ("latitude_deg", "longitude_deg", "altitude_m"))
+    except (TypeError, KeyError, ValueError):
+        return ""
+    here = (float(location.latitude_deg), float(location.longitude_deg), float(location.altitude_m))
+    if not all(math.isfinite(v) for v in then) or same_site(then, here):
+        return ""
+    km = ground_distance_m(then[0], then[1], here[0], here[1]) / 1000.0
+    name = one_line(design_site.get("name") or "its site")
+    where = f" at {one_line(place)}" if place else ""
+    return (f"the design was planned for {name} ({then[0]:.4f}, {then[1]:.4f}, {then[2]:.0f} m); used {km:,.0f} km "
+            f"away{where} ({here[2] - then[2]:+.0f} m in height): the currents are from this site's field")
+
+
 # ----------------------------------------------------------------------------- heading
 
 def dip_pole_warning(horizontal_nT: float, reference: str) -> str:

@@ -237,7 +237,7 @@ def setpoint_context(design, site, calibration=None, calibration_name: str = "",
     """
     from cage.ambient import site_ambient
     from cage.provenance import design_id, make_provenance
-    from cage.reuse import calibration_ambient, site_for_design
+    from cage.reuse import calibration_ambient, site_for_design, site_move_note
     from cage.setpoints import reuse_warnings
     from cage.supplies import supply_for_axis, validate_supply
 
@@ -273,6 +273,9 @@ def setpoint_context(design, site, calibration=None, calibration_name: str = "",
         warnings += notes
         derived["calibration"] = calibration_name
     warnings += reuse_warnings(design, supplies, site.room)
+    moved = site_move_note(design.site, site.location, site.name)
+    if moved:
+        warnings.append(moved)
     prov = make_provenance(site, amb, derived_from=derived, heading_note=heading_note)
     return SetpointContext(amb, supplies, extra_nT, ambient_C, max_C, coupling, ambient_nT, source, tuple(warnings),
                            prov)
