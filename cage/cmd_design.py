@@ -86,7 +86,10 @@ def register(app: typer.Typer) -> None:
 
             fig = compare_figure([r.as_dict() for r in rows], room_limit, inp.uniformity,
                                  required_cube_m=float(max(inp.test_volume_m)))
-            write_bytes(plot, png_bytes(fig))
+            from cage.provenance import header_lines
+            from cage.workflow import field_provenance
+
+            write_bytes(plot, png_bytes(fig, notes=header_lines(field_provenance(site, amb), prefix="")))
         if as_json:
             typer.echo(dump_json({"format": "cage-compare", "version": 1, "site": site.name,
                                   "uniformity": inp.uniformity, "room_inner_min_m": room_limit,

@@ -89,7 +89,7 @@ def _attitude(mode: Optional[str], spin_axis: str, spin_rate_deg_s: Optional[flo
 
 def orbit_csv(result) -> str:
     """The series CSV: t_s,x_nT,y_nT,z_nT (body frame), then lat_deg,lon_deg,alt_km,total_nT
-    (``cage orbit`` ends it with its ``provenance_lines``)."""
+    (``cage orbit`` ends it with its ``provenance_lines`` as ``#`` lines)."""
     import numpy as np
 
     tr = result.track
@@ -179,8 +179,8 @@ def orbit(
         typer.echo(w, err=True)
     source = series_identity(elements) if elements is not None else "the options " + ", ".join(
         f"--{k.replace('_', '-')} {v}" for k, v in options.items() if v is not None)
-    text = orbit_csv(result) + "\n".join(provenance_lines(name, epoch_time, when, duration_s, step_s, att, source,
-                                                           ut1_utc_s, warnings)) + "\n"
+    notes = provenance_lines(name, epoch_time, when, duration_s, step_s, att, source, ut1_utc_s, warnings)
+    text = orbit_csv(result) + "".join(f"# {line}\n" for line in notes)
     if plot is not None:
         from cage.escape import for_figure
         from cage.orbitplots import orbit_figure
@@ -189,7 +189,7 @@ def orbit(
         fig = orbit_figure(t, result.body_nT, result.track.latitude_deg, result.track.longitude_deg,
                            title=for_figure(f"{name}, from {when:%Y-%m-%d %H:%M} UTC"),
                            attitude=for_figure(att.describe()))
-        write_bytes(plot, png_bytes(fig))
+        write_bytes(plot, png_bytes(fig, notes=notes))
     if out is not None:
         write_text(out, text)
     else:
@@ -247,10 +247,11 @@ def series_identity(path: Path) -> str:
 
 def provenance_lines(name: str, epoch, start, duration_s: float, step_s: float, attitude, source: str,
                      ut1_utc_s: float, warnings=()) -> list[str]:
-    """The ``#`` lines that end an orbit series CSV: what it was computed from (the element set
-    or the options, the span, the attitude, the models and their libraries, this tool) and the
-    warnings in force. Every text from a file or the command line is made one safe line
-    (``cage.escape.one_line``); readers of the series skip ``#`` lines."""
+    """What an orbit series was computed from (the element set or the options, the span, the
+    attitude, the models and their libraries, this tool) and the warnings in force, as lines:
+    the series CSV ends with them as ``#`` lines (readers of the series skip those), its figure
+    carries them as PNG text. Every text from a file or the command line is made one safe line
+    (``cage.escape.one_line``)."""
     from importlib import metadata
 
     from cage.escape import one_line
@@ -267,7 +268,7 @@ def provenance_lines(name: str, epoch, start, duration_s: float, step_s: float, 
         f"model: IGRF-14 ({model_library()}); propagation: SGP4 ({sgp4}); written by {tool_version()}",
     ]
     lines += [one_line(w) if w.startswith("warning") else f"warning: {one_line(w)}" for w in warnings]
-    return ["# " + line for line in lines]
+    return lines
 
 
 def rate_lines(t_s, field_nT, rate_Hz: float, error_nT: float) -> list[str]:

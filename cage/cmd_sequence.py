@@ -115,6 +115,7 @@ def register(app: typer.Typer) -> None:
         if plot is not None:
             from cage.atomicfile import write_bytes
             from cage.figurestyle import png_bytes
+            from cage.provenance import header_lines
             from cage.setpointfigures import sequence_figure
 
             steps = np.arange(len(table)) / rate_Hz if dt is not None else np.arange(len(table), dtype=float)
@@ -125,7 +126,8 @@ def register(app: typer.Typer) -> None:
                 for ax in fig.axes:
                     if ax.get_xlabel():
                         ax.set_xlabel("direction number (row)")
-            write_bytes(plot, png_bytes(fig))
+            prov = table.provenance_record()
+            write_bytes(plot, png_bytes(fig, notes=header_lines(prov, prefix="") if prov is not None else ()))
         emit_table(out, text, kind, len(table))
         if orbit is not None:
             for line in summary:

@@ -104,7 +104,19 @@ def run_tolerance(design_file: Path, site_file: Path, samples: int, seed: Option
 
         fit = load_calibration(calibration_file)
         cal_se, cal_off = fit.coupling_stderr_nT_per_A, fit.offset_stderr_nT
+    # The re-use rules of every table made from a design (cage.reuse): the built cage's true
+    # azimuth, a warning when it is used away from where it was planned; all in the provenance.
+    from cage.provenance import design_id, make_provenance
+    from cage.reuse import site_for_design, site_move_note
+
+    site, heading_note, notes = site_for_design(design, site, False)
     amb = site_ambient(site)
+    moved = site_move_note(design.site, site.location, site.name)
+    prov = make_provenance(site, amb, heading_note=heading_note,
+                           warnings=tuple(amb.warnings) + tuple(notes) + ((moved,) if moved else ()),
+                           derived_from={"design": design_id(design), "site_file": site.source,
+                                         "calibration": str(calibration_file or ""),
+                                         "survey": site.measured.date.isoformat() if site.measured else ""})
     if plot is not None:
         folder = plot.parent if str(plot.parent) else Path(".")
         if not folder.is_dir():
@@ -169,6 +181,7 @@ def run_tolerance(design_file: Path, site_file: Path, samples: int, seed: Option
     return {
         "format": "cage-tolerance",
         "version": 1,
+        "provenance": prov.as_dict(),
         "samples": samples,
         "seed": seed,
         "build_errors_sigma": errors.in_units(),
@@ -296,7 +309,13 @@ def register(app: typer.Typer) -> None:
             from cage.figurestyle import png_bytes
             from cage.tolerance_plots import uniformity_spread_figure
 
-            write_bytes(plot, png_bytes(uniformity_spread_figure(mc)))
+            from cage.provenance import header_lines
+
+            write_bytes(plot, png_bytes(uniformity_spread_figure(mc), notes=header_lines(doc["provenance"], prefix="")))
+        from cage.terminal import warn
+
+        for w in doc["provenance"]["warnings"]:
+            warn(w)
         if as_json:
             typer.echo(json.dumps(doc, indent=2, allow_nan=False))
         else:

@@ -101,8 +101,9 @@ def _box(x, y, w, h):
     return Rectangle((x - w / 2, y - h / 2), w, h, fill=False, lw=1.0)
 
 
-def connection_pngs(sheet) -> dict[str, bytes]:
-    """{"connection_x.png": PNG bytes, ...} for every axis of a ``BuildSheet``."""
+def connection_pngs(sheet, notes=()) -> dict[str, bytes]:
+    """{"connection_x.png": PNG bytes, ...} for every axis of a ``BuildSheet``; ``notes``: what
+    the design was made from, written into each PNG (``cage.figurestyle.png_bytes``)."""
     from cage.figurestyle import png_bytes
 
-    return {f"connection_{b.axis}.png": png_bytes(connection_figure(b)) for b in sheet.axes}
+    return {f"connection_{b.axis}.png": png_bytes(connection_figure(b), notes=notes) for b in sheet.axes}

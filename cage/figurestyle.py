@@ -173,8 +173,10 @@ def _finish(fig: Figure) -> Figure:
     return fig
 
 
-def png_bytes(fig: Figure, dpi: int = DEFAULT_DPI) -> bytes:
-    """The figure rendered as PNG (figsize x dpi pixels)."""
+def png_bytes(fig: Figure, dpi: int = DEFAULT_DPI, notes=()) -> bytes:
+    """The figure rendered as PNG (figsize x dpi pixels), with this tool's version as the PNG's
+    "Software" text and ``notes`` (lines: what the figure was made from, e.g.
+    ``cage.provenance.header_lines(..., prefix="")``) as its "Source" text."""
     if not isinstance(fig, Figure):
         raise InputError(f"expected a matplotlib Figure, got {type(fig).__name__}")
     if fig.canvas is None or not isinstance(fig.canvas, FigureCanvasAgg):
@@ -190,14 +192,20 @@ def png_bytes(fig: Figure, dpi: int = DEFAULT_DPI) -> bytes:
     with matplotlib.rc_context(_RENDER_RC):
         fig.canvas.draw()
     rgba = np.asarray(fig.canvas.buffer_rgba())
-    return encode_png(rgba[..., :3] if np.all(rgba[..., 3] == 255) else rgba, dpi=dpi)
+    from cage.escape import one_line
+    from cage.provenance import tool_version
+
+    text = {"Software": tool_version()}
+    if notes:
+        text["Source"] = "\n".join(one_line(line) for line in notes)
+    return encode_png(rgba[..., :3] if np.all(rgba[..., 3] == 255) else rgba, dpi=dpi, text=text)
 
 
-def save_png(fig: Figure, path: str | os.PathLike, dpi: int = DEFAULT_DPI) -> Path:
-    """Render the figure to PNG in memory, then write it atomically to ``path``."""
+def save_png(fig: Figure, path: str | os.PathLike, dpi: int = DEFAULT_DPI, notes=()) -> Path:
+    """Render the figure to PNG in memory (``png_bytes``), then write it atomically to ``path``."""
     from cage.atomicfile import write_bytes
 
-    return write_bytes(path, png_bytes(fig, dpi))
+    return write_bytes(path, png_bytes(fig, dpi, notes))
 
 
 # ---------------------------------------------------------------------------------------------

@@ -4,8 +4,9 @@ Files layer. The format is the PNG specification (W3C Recommendation "Portable N
 Graphics (PNG) Specification (Second Edition)", 2003; the same text as ISO/IEC 15948:2004):
 the 8-byte signature, then chunks, each its data length (4 bytes, big-endian), type, data and
 the CRC-32 of type and data. Written here: IHDR (size, 8 bits per channel, colour type 2 or
-6, no interlace), pHYs (pixels per metre, from the dots per inch), one IDAT (the zlib stream
-of the rows, each led by its filter type byte) and IEND.
+6, no interlace), pHYs (pixels per metre, from the dots per inch), iTXt (text: what the
+image was made from), one IDAT (the zlib stream of the rows, each led by its filter type
+byte) and IEND.
 
 Every row is stored with filter type 0 (None) and compressed at zlib level 1. A general
 encoder (Pillow's) tries the five filters on every row and keeps the best; on the flat
@@ -31,10 +32,21 @@ def _chunk(kind: bytes, data: bytes) -> bytes:
     return struct.pack(">I", len(data)) + kind + data + struct.pack(">I", zlib.crc32(data, zlib.crc32(kind)))
 
 
-def png_bytes(pixels, dpi: float | None = None, level: int = 1) -> bytes:
+def _text_chunk(keyword: str, text: str) -> bytes:
+    """An iTXt chunk (PNG specification, 11.3.4.5): a keyword of 1 to 79 printable ASCII characters,
+    uncompressed UTF-8 text, no language tag."""
+    key = keyword.encode("latin-1")
+    if not 1 <= len(key) <= 79 or not key.isascii() or key != key.strip() or b"\0" in key:
+        raise ValueError(f"a PNG text keyword is 1 to 79 plain characters, got {keyword!r}")
+    return _chunk(b"iTXt", key + b"\0\0\0" + b"\0" + b"\0" + str(text).replace("\0", "").encode("utf-8"))
+
+
+def png_bytes(pixels, dpi: float | None = None, level: int = 1, text=None) -> bytes:
     """The PNG file of ``pixels``, an array (rows, columns, 3 or 4) of uint8, top row first,
     channels R, G, B (and A). ``dpi``: dots per inch written in the pHYs chunk (none if
-    None). ``level``: the zlib compression level, 0 to 9. ValueError on anything else."""
+    None). ``level``: the zlib compression level, 0 to 9. ``text``: {keyword: text} written as
+    iTXt chunks before the image data (keywords such as "Software", "Source", "Comment" of the
+    specification's list). ValueError on anything else."""
     arr = np.asarray(pixels)
     if arr.dtype != np.uint8 or arr.ndim != 3 or arr.shape[2] not in _COLOUR_TYPE:
         raise ValueError(f"pixels must be a (rows, columns, 3 or 4) array of uint8, got {arr.dtype} {arr.shape}")
@@ -51,6 +63,8 @@ def png_bytes(pixels, dpi: float | None = None, level: int = 1) -> bytes:
             raise ValueError(f"dpi must be a positive number, got {dpi!r}")
         per_metre = int(round(dpi / _METRES_PER_INCH))
         out.append(_chunk(b"pHYs", struct.pack(">IIB", per_metre, per_metre, 1)))  # unit 1: the metre
+    for keyword, value in (text or {}).items():
+        out.append(_text_chunk(keyword, value))
     out.append(_chunk(b"IDAT", zlib.compress(rows, level)))
     out.append(_chunk(b"IEND", b""))
     return b"".join(out)

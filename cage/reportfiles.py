@@ -32,7 +32,18 @@ def make_figures(design_obj, design_doc: dict, setpoints_doc: Optional[dict]) ->
     }
     if setpoints_doc is not None:
         figs["setpoints.png"] = plots.setpoints_figure(setpoints_doc)
-    return {name: plots.png_bytes(fig) for name, fig in figs.items()}
+    notes = provenance_notes(design_doc)
+    return {name: plots.png_bytes(fig, notes=notes) for name, fig in figs.items()}
+
+
+def provenance_notes(doc) -> list[str]:
+    """The provenance of a document (design, setpoints) as plain lines for a figure's PNG text."""
+    prov = doc.get("provenance") if isinstance(doc, dict) else None
+    if not isinstance(prov, dict):
+        return []
+    from cage.provenance import header_lines
+
+    return header_lines(prov, prefix="")
 
 
 def report_html(field_doc, design_doc, setpoints_doc, pngs: dict, build_doc=None, build_pngs=None) -> str:
@@ -62,7 +73,7 @@ def report_build(design_doc: dict, name: str = "design.json"):
     from cage.workflow import sheet_for_design
 
     sheet = sheet_for_design(design_from_dict(design_doc, name))
-    return sheet, sheet_to_dict(sheet, name), connection_pngs(sheet)
+    return sheet, sheet_to_dict(sheet, name), connection_pngs(sheet, provenance_notes(design_doc))
 
 
 def report_files(field_doc, design_doc, setpoints_doc, pngs: dict) -> dict:

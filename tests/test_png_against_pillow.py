@@ -81,3 +81,20 @@ def test_refuses_bad_level_and_dpi():
         png_bytes(px, level=10)
     with pytest.raises(ValueError):
         png_bytes(px, dpi=-1)
+
+
+def test_text_chunks_read_back_with_pillow():
+    px = np.zeros((2, 2, 3), np.uint8)
+    text = {"Software": "cage 9.9", "Source": "site: Hütte am Berg\nwarning: ±2 °"}
+    with Image.open(io.BytesIO(png_bytes(px, text=text))) as im:
+        im.load()
+        assert im.info["Software"] == "cage 9.9"
+        assert im.info["Source"] == text["Source"]  # UTF-8 kept (iTXt)
+    kinds = [k for k, _ in _chunks(png_bytes(px, dpi=72, text=text))]
+    assert kinds == [b"IHDR", b"pHYs", b"iTXt", b"iTXt", b"IDAT", b"IEND"]  # text before the image data
+
+
+@pytest.mark.parametrize("keyword", ["", " lead", "x" * 80, "nul\0in", "Hütte"])
+def test_refuses_bad_text_keywords(keyword):
+    with pytest.raises(ValueError):
+        png_bytes(np.zeros((1, 1, 3), np.uint8), text={keyword: "x"})
