@@ -9,6 +9,7 @@ from typing import Optional
 
 import typer
 
+from cage.cliargs import HeadingOpt, MagneticOpt
 from cage.errors import InputError
 
 AXES = ("x", "y", "z")
@@ -54,8 +55,10 @@ def _budget_table(budget) -> list[str]:
 def run_tolerance(design_file: Path, site_file: Path, samples: int, seed: Optional[int], errors,
                   target_yield: float, spec_samples: int, calibration_file: Optional[Path],
                   temperature_swing_K: float, hours: float, valid_until: Optional[str], show_progress: bool,
-                  plot: Optional[Path] = None):
-    """Everything the command computes, as a JSON-ready dict (no printing but the progress bar)."""
+                  plot: Optional[Path] = None, heading_deg: Optional[float] = None, heading_magnetic: bool = False):
+    """Everything the command computes, as a JSON-ready dict (no printing but the progress bar).
+    heading_deg, heading_magnetic: the cage's azimuth given to replace the design's (as
+    ``cage setpoints --heading-deg``)."""
     import numpy as np
 
     from cage import buildyield as tol
@@ -63,12 +66,13 @@ def run_tolerance(design_file: Path, site_file: Path, samples: int, seed: Option
     from cage.ambient import site_ambient
     from cage.designfile import load_design
     from cage.errorbudget import SupplyStability, error_budget
-    from cage.sitefile import load_site, parse_date
+    from cage.cliargs import resolve_site
+    from cage.sitefile import parse_date
     from cage.supplies import supply_for_axis, validate_supply
 
     # Every input is read and checked before the (long) sampling starts.
     design = load_design(design_file)
-    site = load_site(site_file)
+    site = resolve_site(site_file, None, None, None, None, heading_deg, heading_magnetic)
     systems = tolerance.systems_of_design(design)
     volume = site.requirement.test_volume_m
     uniformity = site.requirement.uniformity
@@ -109,7 +113,7 @@ def run_tolerance(design_file: Path, site_file: Path, samples: int, seed: Option
     from cage.provenance import design_id, make_provenance
     from cage.reuse import site_for_design, site_move_note
 
-    site, heading_note, notes = site_for_design(design, site, False)
+    site, heading_note, notes = site_for_design(design, site, heading_deg is not None or heading_magnetic)
     amb = site_ambient(site)
     moved = site_move_note(design.site, site.location, site.name)
     prov = make_provenance(site, amb, heading_note=heading_note,
@@ -277,6 +281,8 @@ def register(app: typer.Typer) -> None:
         valid_until: Optional[str] = typer.Option(None, "--valid-until",
                                                   help="Date the current table must hold to (default: a year "
                                                        "after the site's date)."),
+            heading_deg: Optional[float] = HeadingOpt,
+        heading_magnetic: bool = MagneticOpt,
     ) -> None:
         """How well the built cage will do: Monte Carlo yield, sensitivities, tolerances, nT budget."""
         import json
@@ -303,7 +309,8 @@ def register(app: typer.Typer) -> None:
                              math.radians(orthogonality_deg), float(imbalance))
         doc, mc = run_tolerance(design_file, site_file, samples, seed, errors, target_yield, spec_samples,
                                 calibration, temperature_swing_K, hours, valid_until,
-                                show_progress=sys.stderr.isatty(), plot=plot)
+                                show_progress=sys.stderr.isatty(), plot=plot, heading_deg=heading_deg,
+                                heading_magnetic=heading_magnetic)
         if plot is not None:
             from cage.atomicfile import write_bytes
             from cage.figurestyle import png_bytes

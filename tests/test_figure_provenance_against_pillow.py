@@ -60,3 +60,12 @@ def test_tolerance_elsewhere_keeps_the_design_heading_and_says_so(run_cli, plan_
     design = json.loads((plan_folder / "design.json").read_text())
     assert prov["heading_true_deg"] == pytest.approx(design["site"]["heading_true_deg"])
     assert any("planned for" in w for w in prov["warnings"]) and "planned for" in run.err
+
+
+def test_tolerance_heading_option_replaces_the_design_heading(run_cli, plan_folder):
+    run = run_cli("tolerance", plan_folder / "design.json", SITES / "smallsat-lab.toml", "--samples", "20",
+                  "--spec-samples", "20", "--seed", "3", "--json", "--heading-deg", "100")
+    assert run.code == 0, run
+    prov = json.loads(run.out)["provenance"]
+    assert prov["heading_true_deg"] == pytest.approx(100.0)
+    assert any("100" in w for w in prov["warnings"])  # the replacement is said, as for the current tables
