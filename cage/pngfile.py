@@ -35,8 +35,8 @@ def _chunk(kind: bytes, data: bytes) -> bytes:
 def _text_chunk(keyword: str, text: str) -> bytes:
     """An iTXt chunk (PNG specification, 11.3.4.5): a keyword of 1 to 79 printable ASCII characters,
     uncompressed UTF-8 text, no language tag."""
-    key = keyword.encode("latin-1")
-    if not 1 <= len(key) <= 79 or not key.isascii() or key != key.strip() or b"\0" in key:
+    key = str(keyword).encode("ascii", errors="strict")  # UnicodeEncodeError is a ValueError
+    if not 1 <= len(key) <= 79 or any(b < 32 or b > 126 for b in key) or key != key.strip() or b"  " in key:
         raise ValueError(f"a PNG text keyword is 1 to 79 plain characters, got {keyword!r}")
     return _chunk(b"iTXt", key + b"\0\0\0" + b"\0" + b"\0" + str(text).replace("\0", "").encode("utf-8"))
 

@@ -94,7 +94,7 @@ def test_text_chunks_read_back_with_pillow():
     assert kinds == [b"IHDR", b"pHYs", b"iTXt", b"iTXt", b"IDAT", b"IEND"]  # text before the image data
 
 
-@pytest.mark.parametrize("keyword", ["", " lead", "x" * 80, "nul\0in", "Hütte"])
+@pytest.mark.parametrize("keyword", ["", " lead", "x" * 80, "nul\0in", "Hütte", "tab\tin", "two  spaces", "Ω"])
 def test_refuses_bad_text_keywords(keyword):
     with pytest.raises(ValueError):
         png_bytes(np.zeros((1, 1, 3), np.uint8), text={keyword: "x"})
