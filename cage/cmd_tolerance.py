@@ -63,7 +63,6 @@ def run_tolerance(design_file: Path, site_file: Path, samples: int, seed: Option
 
     from cage import buildyield as tol
     from cage import tolerance
-    from cage.ambient import site_ambient
     from cage.designfile import load_design
     from cage.errorbudget import SupplyStability, error_budget
     from cage.cliargs import resolve_site
@@ -108,19 +107,15 @@ def run_tolerance(design_file: Path, site_file: Path, samples: int, seed: Option
 
         fit = load_calibration(calibration_file)
         cal_se, cal_off = fit.coupling_stderr_nT_per_A, fit.offset_stderr_nT
-    # The re-use rules of every table made from a design (cage.reuse): the built cage's true
-    # azimuth, a warning when it is used away from where it was planned; all in the provenance.
-    from cage.provenance import design_id, make_provenance
-    from cage.reuse import site_for_design, site_move_note
+    # The re-use rules of every output made from a design (the built cage's true azimuth, a
+    # warning away from its site), as for the current tables; all in the provenance.
+    from cage.provenance import make_provenance
+    from cage.workflow import design_in_use
 
-    site, heading_note, notes = site_for_design(design, site, heading_deg is not None or heading_magnetic)
-    amb = site_ambient(site)
-    moved = site_move_note(design.site, site.location, site.name)
-    prov = make_provenance(site, amb, heading_note=heading_note,
-                           warnings=tuple(amb.warnings) + tuple(notes) + ((moved,) if moved else ()),
-                           derived_from={"design": design_id(design), "site_file": site.source,
-                                         "calibration": str(calibration_file or ""),
-                                         "survey": site.measured.date.isoformat() if site.measured else ""})
+    site, amb, heading_note, warnings, derived = design_in_use(design, site,
+                                                               heading_deg is not None or heading_magnetic)
+    prov = make_provenance(site, amb, heading_note=heading_note, warnings=warnings,
+                           derived_from={**derived, "calibration": str(calibration_file or "")})
     if plot is not None:
         folder = plot.parent if str(plot.parent) else Path(".")
         if not folder.is_dir():

@@ -38,7 +38,9 @@ def _text_chunk(keyword: str, text: str) -> bytes:
     key = str(keyword).encode("ascii", errors="strict")  # UnicodeEncodeError is a ValueError
     if not 1 <= len(key) <= 79 or any(b < 32 or b > 126 for b in key) or key != key.strip() or b"  " in key:
         raise ValueError(f"a PNG text keyword is 1 to 79 plain characters, got {keyword!r}")
-    return _chunk(b"iTXt", key + b"\0\0\0" + b"\0" + b"\0" + str(text).replace("\0", "").encode("utf-8"))
+    # keyword, NUL; compression flag 0 and method 0; empty language tag and translated keyword, each NUL-ended
+    head = key + b"\0" + b"\0\0" + b"\0" + b"\0"
+    return _chunk(b"iTXt", head + str(text).replace("\0", "").encode("utf-8"))
 
 
 def png_bytes(pixels, dpi: float | None = None, level: int = 1, text=None) -> bytes:

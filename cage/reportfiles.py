@@ -53,13 +53,8 @@ def report_html(field_doc, design_doc, setpoints_doc, pngs: dict, build_doc=None
     title = "Coil cage report"
     if isinstance(field_doc, dict) and field_doc.get("site"):
         title += f": {field_doc['site']}"
-    notes = []
-    for name, doc in (("field", field_doc), ("design", design_doc), ("setpoints", setpoints_doc)):
-        prov = doc.get("provenance") if isinstance(doc, dict) else None
-        if isinstance(prov, dict):
-            from cage.provenance import header_lines
-
-            notes += [f"{name}: {line}" for line in header_lines(prov, prefix="")]
+    notes = [f"{name}: {line}" for name, doc in (("field", field_doc), ("design", design_doc),
+                                                  ("setpoints", setpoints_doc)) for line in provenance_notes(doc)]
     return build_report(field=field_doc, design=design_doc, setpoints=setpoints_doc,
                         figures={FIGURES[name]: data for name, data in pngs.items()}, title=title, notes=notes,
                         build=build_doc, build_figures=build_pngs)

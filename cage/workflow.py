@@ -228,6 +228,27 @@ class SetpointContext:
     provenance: object = None
 
 
+def design_in_use(design, site, heading_explicit: bool = False):
+    """The re-use rules every output made from a design follows (cage.reuse), in one place:
+    (the site turned to the built cage's true azimuth, its ambient field, the heading note,
+    the warnings -- the ambient field's, the heading's, a note when used away from the design's
+    site --, and the provenance's ``derived_from``: the design's identity, the site file, the
+    survey's date)."""
+    from cage.ambient import site_ambient
+    from cage.provenance import design_id
+    from cage.reuse import site_for_design, site_move_note
+
+    site, heading_note, warnings = site_for_design(design, site, heading_explicit)
+    amb = site_ambient(site)
+    warnings = list(amb.warnings) + warnings
+    moved = site_move_note(design.site, site.location, site.name)
+    if moved:
+        warnings.append(moved)
+    derived = {"design": design_id(design), "site_file": "" if site.source == "command line" else site.source,
+               "survey": site.measured.date.isoformat() if site.measured is not None else ""}
+    return site, amb, heading_note, warnings, derived
+
+
 def setpoint_context(design, site, calibration=None, calibration_name: str = "",
                      heading_explicit: bool = False) -> SetpointContext:
     """Supplies, temperatures, field in force and warnings for a design used at a site.
@@ -235,15 +256,12 @@ def setpoint_context(design, site, calibration=None, calibration_name: str = "",
     calibration: a loaded calibration record (cage.calibrationfile) or None; calibration_name
     names it in warnings and provenance.
     """
-    from cage.ambient import site_ambient
-    from cage.provenance import design_id, make_provenance
-    from cage.reuse import calibration_ambient, site_for_design, site_move_note
+    from cage.provenance import make_provenance
+    from cage.reuse import calibration_ambient
     from cage.setpoints import reuse_warnings
     from cage.supplies import supply_for_axis, validate_supply
 
-    site, heading_note, warnings = site_for_design(design, site, heading_explicit)
-    amb = site_ambient(site)
-    warnings = list(amb.warnings) + warnings
+    site, amb, heading_note, warnings, derived = design_in_use(design, site, heading_explicit)
     if site.supplies:
         for i, s in enumerate(site.supplies):
             validate_supply(s, f"{site.source}: supply[{i}] (axis {s.axis})")
@@ -265,17 +283,12 @@ def setpoint_context(design, site, calibration=None, calibration_name: str = "",
         ambient_C = number_or(req.get("ambient_temperature_C"), 22.0)
         max_C = number_or(req.get("max_winding_temperature_C"), None)
     coupling, ambient_nT, source = None, amb.in_force_cage_nT, amb.source
-    identity = design_id(design)
-    derived = {"design": identity, "site_file": "" if site.source == "command line" else site.source,
-               "survey": site.measured.date.isoformat() if site.measured is not None else ""}
     if calibration is not None:
-        coupling, ambient_nT, source, notes = calibration_ambient(calibration, calibration_name, identity, site, amb)
+        coupling, ambient_nT, source, notes = calibration_ambient(calibration, calibration_name, derived["design"],
+                                                                  site, amb)
         warnings += notes
         derived["calibration"] = calibration_name
     warnings += reuse_warnings(design, supplies, site.room)
-    moved = site_move_note(design.site, site.location, site.name)
-    if moved:
-        warnings.append(moved)
     prov = make_provenance(site, amb, derived_from=derived, heading_note=heading_note)
     return SetpointContext(amb, supplies, extra_nT, ambient_C, max_C, coupling, ambient_nT, source, tuple(warnings),
                            prov)

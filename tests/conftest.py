@@ -69,6 +69,14 @@ def cli_code(*args) -> int:
     return 0
 
 
+@pytest.fixture(scope="session")
+def smallsat_design(tmp_path_factory) -> Path:
+    """The smallsat lab's default design (``cage design``), made once for the tests that only read it."""
+    path = tmp_path_factory.mktemp("smallsat-design") / "design.json"
+    assert cli_code("design", SITES / "smallsat-lab.toml", "--out", path) == 0
+    return path
+
+
 def assert_one_line_error(run: Run, *fragments: str, code: int = 2) -> None:
     """A user error: the given exit code, one plain line on stderr, no traceback."""
     assert run.code == code, run

@@ -30,12 +30,8 @@ def tle(tmp_path_factory):
 
 
 @pytest.fixture(scope="module")
-def design_path(tmp_path_factory):
-    from conftest import cli_code
-
-    path = tmp_path_factory.mktemp("orbitseq") / "design.json"
-    assert cli_code("design", SITES / "smallsat-lab.toml", "--out", path) == 0
-    return path
+def design_path(smallsat_design):
+    return smallsat_design
 
 
 def _load(path):

@@ -25,12 +25,8 @@ def _sha(data: bytes) -> str:
 
 
 @pytest.fixture(scope="module")
-def design_path(tmp_path_factory):
-    from conftest import cli_code
-
-    path = tmp_path_factory.mktemp("orbitprov") / "design.json"
-    assert cli_code("design", SITES / "smallsat-lab.toml", "--out", path) == 0
-    return path
+def design_path(smallsat_design):
+    return smallsat_design
 
 
 def test_series_ends_with_what_it_was_made_from(tmp_path, run_cli):

@@ -11,7 +11,7 @@ import math
 
 import pytest
 
-from conftest import SITES, assert_one_line_error, cli_code
+from conftest import SITES, assert_one_line_error
 
 chaos = pytest.importorskip("chaosmagpy")
 
@@ -40,10 +40,8 @@ def test_dip_pole_warning_for_a_magnetic_heading(run_cli):
 
 
 @pytest.fixture(scope="module")
-def design(tmp_path_factory):
-    path = tmp_path_factory.mktemp("warn") / "design.json"
-    assert cli_code("design", SITES / "smallsat-lab.toml", "--out", path) == 0
-    return path
+def design(smallsat_design):
+    return smallsat_design
 
 
 def test_every_output_records_its_provenance(design, run_cli, tmp_path):

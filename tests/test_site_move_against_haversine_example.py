@@ -19,12 +19,8 @@ from cage.reuse import site_move_note
 
 
 @pytest.fixture(scope="module")
-def design_path(tmp_path_factory):
-    from conftest import cli_code
-
-    path = tmp_path_factory.mktemp("moved") / "design.json"
-    assert cli_code("design", SITES / "smallsat-lab.toml", "--out", path) == 0
-    return path
+def design_path(smallsat_design):
+    return smallsat_design
 
 
 def _at(lat, lon, alt):
