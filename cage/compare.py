@@ -34,7 +34,8 @@ class CompareRow:
     """The best cage at one outer size (metres), or the reason there is none.
 
     outer_size_m: side (square) or diameter (round) of the outermost centreline. sizes_m: each
-    pair's ``CoilPair.size_m`` (side or radius); ``as_dict`` gives them as sides or diameters.
+    pair's ``CoilPair.size_m`` (side or radius); ``as_dict`` gives them as sides or diameters,
+    each by its own axis's shape (``size_kind`` is None for a mixed cage).
     """
 
     outer_size_m: float
@@ -58,8 +59,10 @@ class CompareRow:
             "shape": self.shape, "order_outermost_first": list(self.order),
             # one measure throughout: side (square) or diameter (round), as outer_size_m
             "size_kind": "side" if self.shape == "square" else "diameter" if self.shape == "round" else None,
+            # per axis by its own shape: a mixed cage has sides and diameters
             "centreline_sizes_m": None if self.sizes_m is None else dict(zip(AXES, (
-                v if self.shape == "square" else 2.0 * v for v in self.sizes_m))),
+                v if shape == "square" else 2.0 * v
+                for v, shape in zip(self.sizes_m, self.shapes or (self.shape,) * 3)))),
             "envelope_m": None if self.envelope_m is None else list(self.envelope_m),
             "uniform_cube_m": self.uniform_cube_m, "total_power_W": self.total_power_W,
             "copper_mass_kg": self.copper_mass_kg, "fits_room": self.fits_room,
@@ -117,71 +120,68 @@ def compare_sizes(inp: PlanInputs, sizes_m, progress=None) -> list[CompareRow]:
     return rows
 
 
-def _compare_pairs(inp: PlanInputs, sizes_m, progress=None) -> list[CompareRow]:
-    """The best cage of pairs at each outer size."""
+@dataclass(frozen=True)
+class _Kind:
+    """How one kind of axis (pairs, or one multi-coil system) is built, nested, wound and judged, so
+    that one loop (``_compare_rows``) compares every kind alike."""
+
+    system: str
+    shape_sets: object  # order -> iterable of {axis: shape}
+    unit: object  # (axis, shape, size) -> the axis's pair or coil axis
+    nest: object  # (axis, shape, placed, upper_m) -> largest size that clears, or None
+    cage: object  # (x, y, z) -> the cage
+    units: object  # cage -> its units x, y, z
+    wind: object  # unit -> (AxisPlan or None, reason)
+    layout: object  # cage -> Layout
+    cube: object  # unit -> its largest uniform cube edge (m)
+
+
+def _pair_kind(inp: PlanInputs) -> _Kind:
+    """Three coil pairs, each axis any allowed shape (mixed shapes when the site allows either)."""
     from cage.uniformity import largest_uniform_cube_side_m
 
-    rows = []
-    orders = [inp.axis_order] if inp.axis_order else list(itertools.permutations(AXES))
-    windings: dict = {}
-    for outer in sizes_m:
-        outer = float(outer)
-        best = None
-        reason = ""
-        for order in orders:
-            for shapes in itertools.product(inp.shapes, repeat=3):
-                shape_of = dict(zip(order, shapes))
-                top = _size_from_outer(shape_of[order[0]], outer)
-                placed = [CoilPair(order[0], shape_of[order[0]], top, flat_spacing_m(shape_of[order[0]], top), 1)]
-                for axis in order[1:]:
-                    shape = shape_of[axis]
-                    upper = _size_from_outer(shape, 2.0 * placed[-1].half_width_m)
-                    size = largest_nesting_size_m(axis, shape, placed, inp.frame, upper)
-                    if size is None:
-                        break
-                    placed.append(CoilPair(axis, shape, size, flat_spacing_m(shape, size), 1))
-                if len(placed) < 3:
-                    reason = f"the frames do not nest at {outer:g} m"
-                    continue
-                by_axis = {p.axis: p for p in placed}
-                cage = CoilCage(by_axis["x"], by_axis["y"], by_axis["z"])
-                axes = []
-                for pair in cage.pairs:
-                    if pair not in windings:
-                        windings[pair] = choose_winding(pair.axis, pair, inp, pair.size_m)
-                    result = windings[pair]
-                    if result.plan is None:
-                        reason = result.reason
-                        break
-                    axes.append(result.plan)
-                if len(axes) < 3:
-                    continue
-                layout = check_layout(cage, inp.frame, inp.room)
-                power = sum(a.drive.power_W for a in axes)
-                mass = sum(a.electrics.copper_mass_kg for a in axes)
-                volume = float(np.prod(layout.envelope_m))
-                score = {"power": power, "mass": mass, "size": volume}[inp.minimise]
-                meets = all(a.uniformity_reached <= inp.uniformity for a in axes) and layout.fits_room
-                key = (not layout.fits_room, not meets, score)
-                if best is None or key < best[0]:
-                    label = shapes[0] if len(set(shapes)) == 1 else "mixed"
-                    best = (key, label, order, cage, axes, layout, power, mass)
-        if best is None:
-            rows.append(CompareRow(outer_size_m=outer, feasible=False, reason=reason or "no candidate"))
-        else:
-            _, shape, order, cage, axes, layout, power, mass = best
-            cube = min(largest_uniform_cube_side_m(p, inp.uniformity) for p in cage.pairs)
-            meets = all(a.uniformity_reached <= inp.uniformity for a in axes)
-            rows.append(CompareRow(
-                outer_size_m=outer, feasible=True, shape=shape, order=tuple(order),
-                shapes=tuple(p.shape for p in cage.pairs),
-                sizes_m=tuple(p.size_m for p in cage.pairs), envelope_m=layout.envelope_m,
-                uniform_cube_m=cube, total_power_W=power, copper_mass_kg=mass, fits_room=layout.fits_room,
-                meets_requirement=meets and layout.fits_room,
-            ))
-        if progress is not None:
-            progress(outer)
-    return rows
+    def shape_sets(order):
+        return (dict(zip(order, shapes)) for shapes in itertools.product(inp.shapes, repeat=3))
+
+    def wind(pair):
+        result = choose_winding(pair.axis, pair, inp, pair.size_m)
+        return result.plan, result.reason
+
+    return _Kind(
+        system="pair", shape_sets=shape_sets,
+        unit=lambda axis, shape, size: CoilPair(axis, shape, size, flat_spacing_m(shape, size), 1),
+        nest=lambda axis, shape, placed, upper: largest_nesting_size_m(axis, shape, placed, inp.frame, upper),
+        cage=CoilCage, units=lambda cage: cage.pairs, wind=wind,
+        layout=lambda cage: check_layout(cage, inp.frame, inp.room),
+        cube=lambda pair: largest_uniform_cube_side_m(pair, inp.uniformity))
+
+
+def _system_kind(inp: PlanInputs, system: str) -> _Kind:
+    """Three axes of one multi-coil ``system``, all of one shape that the system has."""
+    from cage.coilaxis import AxisCage
+    from cage.coillayout import check_axes_layout
+    from cage.coilsystems import system_axis, systems_for_shape
+    from cage.systemplan import largest_nesting_axis_size_m, largest_uniform_cube_m, winding_for_axis
+
+    shapes = [s for s in inp.shapes if system in systems_for_shape(s)]
+
+    def wind(ax):
+        plan, why, _ = winding_for_axis(ax, inp, ax.size_m)
+        return plan, why
+
+    return _Kind(
+        system=system, shape_sets=lambda order: ({axis: shape for axis in order} for shape in shapes),
+        unit=lambda axis, shape, size: system_axis(axis, shape, system, size),
+        nest=lambda axis, shape, placed, upper: largest_nesting_axis_size_m(axis, shape, system, placed,
+                                                                           inp.frame, upper),
+        cage=AxisCage, units=lambda cage: cage.axes, wind=wind,
+        layout=lambda cage: check_axes_layout(cage, inp.frame, inp.room),
+        cube=lambda ax: largest_uniform_cube_m(ax, inp.uniformity))
+
+
+def _compare_pairs(inp: PlanInputs, sizes_m, progress=None) -> list[CompareRow]:
+    """The best cage of pairs at each outer size."""
+    return _compare_rows(inp, sizes_m, _pair_kind(inp), progress)
 
 
 def compare_system_rows(inp, sizes_m, system: str, progress=None) -> list:
@@ -191,62 +191,68 @@ def compare_system_rows(inp, sizes_m, system: str, progress=None) -> list:
     that size and each axis further in the largest size no wider than the one outside it that
     clears every coil outside it; windings by ``winding_for_axis``; the best by the objective,
     preferring cages that fit the room and meet the uniformity. Rows carry ``system``."""
-    from cage.coilaxis import AxisCage
-    from cage.coillayout import check_axes_layout
-    from cage.coilsystems import system_axis, systems_for_shape
-    from cage.systemplan import largest_nesting_axis_size_m, largest_uniform_cube_m, winding_for_axis
+    return _compare_rows(inp, sizes_m, _system_kind(inp, system), progress)
 
-    shapes = [s for s in inp.shapes if system in systems_for_shape(s)]
+
+def _compare_rows(inp: PlanInputs, sizes_m, kind: _Kind, progress=None) -> list[CompareRow]:
+    """The search of the module docstring for one kind of axis: at each outer size, each order and
+    each allowed set of shapes, the outermost axis at that size and each further in at the largest
+    size that nests; the best by (fits the room, meets the uniformity, objective)."""
     orders = [inp.axis_order] if inp.axis_order else list(itertools.permutations(AXES))
     windings: dict = {}
     rows = []
     for outer in sizes_m:
         outer = float(outer)
-        best, reason = None, "" if shapes else f"no {system} system for the allowed shapes"
+        best = None
+        reason = ""
         for order in orders:
-            for shape in shapes:
-                placed = [system_axis(order[0], shape, system, _size_from_outer(shape, outer))]
+            for shape_of in kind.shape_sets(order):
+                placed = [kind.unit(order[0], shape_of[order[0]], _size_from_outer(shape_of[order[0]], outer))]
                 for axis in order[1:]:
-                    upper = _size_from_outer(shape, 2.0 * placed[-1].half_width_m)
-                    size = largest_nesting_axis_size_m(axis, shape, system, placed, inp.frame, upper)
+                    shape = shape_of[axis]
+                    size = kind.nest(axis, shape, placed, _size_from_outer(shape, 2.0 * placed[-1].half_width_m))
                     if size is None:
                         break
-                    placed.append(system_axis(axis, shape, system, size))
+                    placed.append(kind.unit(axis, shape, size))
                 if len(placed) < 3:
                     reason = f"the frames do not nest at {outer:g} m"
                     continue
                 by_axis = {p.axis: p for p in placed}
-                cage1 = AxisCage(by_axis["x"], by_axis["y"], by_axis["z"])
+                cage = kind.cage(by_axis["x"], by_axis["y"], by_axis["z"])
                 axes = []
-                for ax in cage1.axes:
-                    if ax not in windings:
-                        windings[ax] = winding_for_axis(ax, inp, ax.size_m)
-                    plan, why, _ = windings[ax]
+                for unit in kind.units(cage):
+                    if unit not in windings:
+                        windings[unit] = kind.wind(unit)
+                    plan, why = windings[unit]
                     if plan is None:
                         reason = why
                         break
                     axes.append(plan)
                 if len(axes) < 3:
                     continue
-                layout = check_axes_layout(cage1, inp.frame, inp.room)
+                layout = kind.layout(cage)
                 power = sum(a.drive.power_W for a in axes)
                 mass = sum(a.electrics.copper_mass_kg for a in axes)
                 score = {"power": power, "mass": mass, "size": float(np.prod(layout.envelope_m))}[inp.minimise]
                 meets = all(a.uniformity_reached <= inp.uniformity for a in axes) and layout.fits_room
                 key = (not layout.fits_room, not meets, score)
                 if best is None or key < best[0]:
-                    best = (key, shape, order, cage1, axes, layout, power, mass, meets)
+                    best = (key, order, cage, axes, layout, power, mass, meets)
         if best is None:
+            if not reason and kind.system != "pair" and not any(True for _ in kind.shape_sets(AXES)):
+                reason = f"no {kind.system} system for the allowed shapes"
             rows.append(CompareRow(outer_size_m=outer, feasible=False, reason=reason or "no candidate",
-                                   system=system))
+                                   system=kind.system))
         else:
-            _, shape, order, cage1, axes, layout, power, mass, meets = best
-            cube = min(largest_uniform_cube_m(ax, inp.uniformity) for ax in cage1.axes)
+            _, order, cage, axes, layout, power, mass, meets = best
+            units = kind.units(cage)
+            shapes = tuple(u.shape for u in units)
             rows.append(CompareRow(
-                outer_size_m=outer, feasible=True, shape=shape, order=tuple(order),
-                shapes=tuple(ax.shape for ax in cage1.axes), sizes_m=tuple(ax.size_m for ax in cage1.axes),
-                envelope_m=layout.envelope_m, uniform_cube_m=cube, total_power_W=power, copper_mass_kg=mass,
-                fits_room=layout.fits_room, meets_requirement=meets, system=system))
+                outer_size_m=outer, feasible=True, shape=shapes[0] if len(set(shapes)) == 1 else "mixed",
+                order=tuple(order), shapes=shapes, sizes_m=tuple(u.size_m for u in units),
+                envelope_m=layout.envelope_m, uniform_cube_m=min(kind.cube(u) for u in units),
+                total_power_W=power, copper_mass_kg=mass, fits_room=layout.fits_room, meets_requirement=meets,
+                system=kind.system))
         if progress is not None:
             progress(outer)
     return rows

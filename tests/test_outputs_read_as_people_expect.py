@@ -97,6 +97,26 @@ def test_compare_json_sizes_are_sides_or_diameters(run_cli):
     assert outer == pytest.approx(row["outer_size_m"], rel=1e-9)  # the same measure as the outer size
 
 
+def test_compare_json_sizes_of_a_mixed_cage_follow_each_axis_shape(run_cli):
+    # A cage of square and round pairs: each axis's centreline size is its side (square) or
+    # diameter (round), so none is wider than the outermost axis's (the outer size), and the
+    # pairs' sides and diameters match what the row's shapes say (a round pair's diameter is
+    # twice the radius the planner works in). Common practice of the trade: a square coil is
+    # quoted by its side, a round one by its diameter.
+    run = run_cli("compare", SITES / "smallsat-lab.toml", "--sizes", "2.5", "--json", "--shape", "either",
+                  "--system", "pair")
+    assert run.code == 0, run
+    rows = [r for r in json.loads(run.out)["rows"] if r["feasible"] and r["shape"] == "mixed"]
+    assert rows, run.out  # the demo site gives a mixed cage at 2.5 m (square outside, round inside)
+    for row in rows:
+        assert row["size_kind"] is None
+        sizes, shapes = row["centreline_sizes_m"], row["shapes"]
+        assert set(shapes.values()) == {"square", "round"}
+        outermost = row["order_outermost_first"][0]
+        assert sizes[outermost] == pytest.approx(row["outer_size_m"], rel=1e-9)
+        assert max(sizes.values()) == pytest.approx(row["outer_size_m"], rel=1e-9)
+
+
 @pytest.mark.parametrize("heading", [0.0, 15.0, 90.0, 200.0, 315.0])
 def test_north_arrow_points_north(heading):
     from cage.coils import CoilCage, CoilPair
