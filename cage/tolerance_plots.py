@@ -9,6 +9,8 @@ def uniformity_spread_figure(mc, title: str = ""):
 
     mc: a ``cage.tolerance.MonteCarlo``. title: already escaped for a figure.
     """
+    from matplotlib.ticker import MaxNLocator
+
     from cage.figurestyle import _finish, _new_figure, extent_in, grid_box, wrapped
 
     fig = _new_figure(11.0, 3.6)
@@ -32,5 +34,7 @@ def uniformity_spread_figure(mc, title: str = ""):
         ax.set_title(f"axis {spread.axis}: yield {100.0 * spread.yield_share:.1f} %")
         ax.set_xlabel("uniformity over the test volume (%)")
     axes[0].set_ylabel("built cages")
+    # counts of cages: whole numbers on the shared count axis, never 0.5 of a cage
+    axes[0].yaxis.set_major_locator(MaxNLocator(integer=True))
     axes[0].legend(loc="upper right", fontsize=8)
     return _finish(fig)

@@ -141,3 +141,10 @@ def test_tolerance_spread():
     axes = [SimpleNamespace(axis=a, deviation=rng.uniform(5e-4, 3e-3, 40), nominal_deviation=7e-4,
                             yield_share=0.25) for a in "xyz"]
     _check(uniformity_spread_figure(SimpleNamespace(uniformity=1e-3, axes=axes, samples=40, yield_share=0.05)))
+    # The count axis counts whole cages: 20 samples in 39 bins give a few per bin, where a free
+    # locator ticks at halves and quarters.
+    few = [SimpleNamespace(axis=a, deviation=rng.uniform(5e-4, 3e-3, 20), nominal_deviation=7e-4,
+                           yield_share=0.25) for a in "xyz"]
+    fig = uniformity_spread_figure(SimpleNamespace(uniformity=1e-3, axes=few, samples=20, yield_share=0.05))
+    counts = [t for t in fig.axes[0].get_yticks() if 0 <= t <= fig.axes[0].get_ylim()[1]]
+    assert len(counts) >= 2 and all(float(t).is_integer() for t in counts), counts
