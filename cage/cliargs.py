@@ -48,12 +48,22 @@ def resolve_site(site_file: Optional[Path], lat: Optional[float], lon: Optional[
             location=location, orientation=orientation, room=None, requirement=sitefile.Requirement(),
             coil=sitefile.CoilSettings(), supplies=(), measured=None, source="command line")
     site = sitefile.load_site(site_file)
+    if heading_magnetic and heading_deg is None:
+        raise InputError(f"--heading-magnetic says how to read --heading-deg: give --heading-deg too ("
+                         f"{site.source} states its own heading_reference)")
     if any(v is not None for v in (lat, lon, alt_m)):
         loc = site.location
         location = sitefile.check_location(loc.latitude_deg if lat is None else lat,
                                            loc.longitude_deg if lon is None else lon,
                                            loc.altitude_m if alt_m is None else alt_m, "command line")
-        site = dataclasses.replace(site, location=location, measured=None)
+        if (lat is None) != (lon is None):
+            given = "--lat" if lon is None else "--lon"
+            raise InputError(f"{given} alone would mix with the other coordinate of {site.source}: give both "
+                             f"--lat and --lon to move the site")
+        name = site.name
+        if lat is not None:  # another place: named for it, with the site file it borrows the rest from
+            name = f"{place_name(location.latitude_deg, location.longitude_deg)} (settings of {site.name})"
+        site = dataclasses.replace(site, name=name, location=location, measured=None)
     if date is not None:
         site = dataclasses.replace(site, date=sitefile.parse_date(date, "--date"), date_given=True)
     if heading_deg is not None or heading_magnetic:

@@ -90,6 +90,9 @@ def register(app: typer.Typer) -> None:
         from cage.workflow import design_supplies as _design_supplies
         from cage.errors import InputError
 
+        from cage.cliargs import check_out
+
+        check_out(out, design_file)
         design_obj = _load_checked_design(design_file)
         name = _shown_name(design_file)
         masses = tuple(spool_kg) if spool_kg else STANDARD_SPOOL_MASSES_KG
@@ -110,6 +113,8 @@ def register(app: typer.Typer) -> None:
             from cage.connectionfigure import connection_pngs
 
             pngs = connection_pngs(sheet)
+            for file_name in pngs:
+                check_out(figures / file_name, design_file)
             try:
                 figures.mkdir(parents=True, exist_ok=True)
             except OSError as exc:

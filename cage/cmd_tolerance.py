@@ -52,6 +52,34 @@ def _budget_table(budget) -> list[str]:
     return lines
 
 
+# The largest build errors (1 sigma) the analysis takes: beyond them an "error" is another cage,
+# and the sampled coils would cross or turn inside out. Sizes are a share of the smallest coil
+# (side or radius); angles in degrees; turns as a share of the fewest turns on a coil, at least 2.
+_MAX_LENGTH_SHARE = 0.1
+_MAX_ANGLE_DEG = 10.0
+_MAX_TURNS_SHARE = 0.25
+
+
+def _check_error_sizes(errors, systems) -> None:
+    """InputError when a build error (cage.tolerance.BuildErrors, SI) is too large to be a build
+    tolerance of this design's coils (the limits above), naming the option."""
+    coils = [c for sys_ in systems for c in sys_.coils]
+    smallest_m = min(c.size_m for c in coils)
+    fewest = min(c.turns for c in coils)
+    length_m = _MAX_LENGTH_SHARE * smallest_m
+    turns = max(2.0, _MAX_TURNS_SHARE * fewest)
+    checks = (("--position-mm", errors.position_m * 1e3, length_m * 1e3, "mm"),
+              ("--size-mm", errors.size_m * 1e3, length_m * 1e3, "mm"),
+              ("--tilt-deg", math.degrees(errors.tilt_rad), _MAX_ANGLE_DEG, "deg"),
+              ("--orthogonality-deg", math.degrees(errors.orthogonality_rad), _MAX_ANGLE_DEG, "deg"),
+              ("--turns", errors.turns, turns, "turns"))
+    for option, value, limit, unit in checks:
+        if value > limit * (1 + 1e-12):
+            raise InputError(f"{option} {value:g} {unit} is no build tolerance for this design: at most {limit:.3g} "
+                             f"{unit} (1 sigma; lengths up to a tenth of the smallest coil, {smallest_m:.3g} m, "
+                             f"angles up to {_MAX_ANGLE_DEG:g} deg, turns up to a quarter of the fewest, {fewest:g})")
+
+
 def run_tolerance(design_file: Path, site_file: Path, samples: int, seed: Optional[int], errors,
                   target_yield: float, spec_samples: int, calibration_file: Optional[Path],
                   temperature_swing_K: float, hours: float, valid_until: Optional[str], show_progress: bool,
@@ -73,12 +101,18 @@ def run_tolerance(design_file: Path, site_file: Path, samples: int, seed: Option
     design = load_design(design_file)
     site = resolve_site(site_file, None, None, None, None, heading_deg, heading_magnetic)
     systems = tolerance.systems_of_design(design)
+    _check_error_sizes(errors, systems)
     volume = site.requirement.test_volume_m
     uniformity = site.requirement.uniformity
     until = parse_date(valid_until, "--valid-until") if valid_until else site.date + _dt.timedelta(days=365)
     years = (until - site.date).days / 365.25
     if years < 0:
         raise InputError(f"--valid-until ({until}) is before the site's date ({site.date})")
+    from cage.geomag import LAST_DATE
+
+    if valid_until and until > LAST_DATE:
+        raise InputError(f"--valid-until {until} is after {LAST_DATE}, where the field model's secular variation "
+                         f"can no longer be extrapolated")
     if not site.supplies:
         raise InputError(f"{_terminal(site.source)}: no [[supply]] tables; the error budget needs the supplies")
     for i, s in enumerate(site.supplies):
@@ -284,6 +318,11 @@ def register(app: typer.Typer) -> None:
 
         from cage.tolerance import BuildErrors
 
+        from cage.cliargs import check_out
+
+        check_out(plot, design_file, site_file, calibration)
+        if seed is not None and not 0 <= seed < 2**32:
+            raise InputError(f"--seed must be a whole number from 0 to {2**32 - 1}, got {seed}")
         if samples < 2 or samples > 1_000_000:
             raise InputError(f"--samples must be between 2 and 1,000,000, got {samples}")
         if spec_samples < 20 or spec_samples > 100_000:
