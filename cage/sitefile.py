@@ -224,6 +224,9 @@ def site_from_text(text: str, where: str = "site") -> Site:
         raise InputError(f"{where}: TOML syntax error: {exc}") from None
     except RecursionError:
         raise InputError(f"{where}: TOML nested too deeply") from None
+    except ValueError:  # Python's cap on the digits of an integer (4300 by default)
+        raise InputError(f"{where}: holds a number with thousands of digits; no value here needs more "
+                         f"than a few") from None
     return site_from_dict(tree, where)
 
 

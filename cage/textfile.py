@@ -84,6 +84,9 @@ def parse_json(text: str, where: str, **json_options):
         raise InputError(f"{where}: not valid JSON at line {exc.lineno}, column {exc.colno}: {exc.msg}") from None
     except RecursionError:
         raise InputError(f"{where}: not valid JSON (nested too deeply)") from None
+    except ValueError:  # Python's cap on the digits of an integer (4300 by default)
+        raise InputError(f"{where}: holds a number with thousands of digits; no value here needs more "
+                         f"than a few") from None
 
 
 def read_json_object(path: str | os.PathLike, what: str = "JSON file", **json_options) -> dict:

@@ -260,6 +260,11 @@ CASES = [
     # ---------------------------------------------------------------- setpoints: design file edited to nonsense
     Case("setpoints: design not JSON", lambda c: ["setpoints", c.write("bad.json", '{"format": "cage-design",'), G_SITE(c)],
          ("bad.json", "not valid JSON", "line 1")),
+    Case("field: site with a 5000-digit number",
+         lambda c: ["field", c.site("max_current_A = ", "max_current_A = " + "9" * 5000 + " # ")], ("bad.toml", "digits")),
+    Case("setpoints: design with a 5000-digit number",
+         lambda c: ["setpoints", c.write("bad.json", json.dumps(c.good.design_obj).replace('"turns": ', '"turns": ' + "9" * 5000, 1)),
+                    G_SITE(c)], ("bad.json", "digits")),
     Case("setpoints: design key misspelt, nearest suggested",
          lambda c: ["setpoints", c.design(lambda o: _ax(o).update(trns=_ax(o).pop("turns"))), G_SITE(c)],
          ("bad.json", "axes.x.trns", '"turns"')),
