@@ -7,6 +7,7 @@ is one line naming the file and the line.
 from __future__ import annotations
 
 import csv
+import io
 import math
 from dataclasses import dataclass
 
@@ -26,18 +27,29 @@ class Target:
     frame: str  # "cage" or "ned"
 
 
+def _records(text: str, where: str) -> list[tuple[int, list[str]]]:
+    """(first line number, cells) of each CSV record, blank rows and ``#`` comment rows left out.
+    Read as one CSV text, so a quoted cell keeps its line breaks (a label may hold any text)."""
+    reader = csv.reader(io.StringIO(text, newline=""))
+    out = []
+    start = 1
+    try:
+        for row in reader:
+            if row and any(cell.strip() for cell in row) and not row[0].lstrip().startswith("#"):
+                out.append((start, row))
+            start = reader.line_num + 1
+    except csv.Error as exc:
+        raise InputError(f"{where}: line {start}: CSV error ({exc})") from None
+    return out
+
+
 def read_targets_csv(path) -> list[Target]:
     where = str(path)
     text = read_text(path, "targets file")
-    lines = [(n, line) for n, line in enumerate(text.split("\n"), 1) if line.strip() and not line.lstrip().startswith("#")]
+    lines = _records(text, where)
     if not lines:
         raise InputError(f"{where}: empty; expected a header {','.join(REQUIRED)}[,frame]")
-    if len(lines) - 1 > MAX_ROWS:  # before any CSV parsing
-        raise InputError(f"{where}: {len(lines) - 1} rows, at most {MAX_ROWS}")
-    try:
-        rows = list(csv.reader([line for _, line in lines]))
-    except csv.Error as exc:
-        raise InputError(f"{where}: CSV error ({exc})") from None
+    rows = [row for _, row in lines]
     header = [h.strip() for h in rows[0]]
     missing = [c for c in REQUIRED if c not in header]
     if missing:

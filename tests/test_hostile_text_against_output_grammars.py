@@ -235,3 +235,20 @@ def test_hostile_site_name_stays_on_its_line_in_field_design_plan(run_cli, hosti
         lines = [line for line in run.out.split("\n") if line.startswith(first)]
         assert len(lines) == 1 and shown in lines[0], (args[0], run.out[:300])
         assert not any(line.startswith(("VOLT 500", "*RST", "OUTP ON")) for line in run.out.splitlines())
+
+
+def test_quoted_line_breaks_in_a_label_read_as_the_csv_module_reads_them(tmp_path):
+    # Python's csv module (RFC 4180 quoting) is the reference: a quoted cell keeps its line
+    # breaks, so a label that looks like SCPI lines stays one label, line breaks and all (each
+    # output escapes it for its place); a bad row after it is reported at its own line.
+    from cage.errors import InputError
+    from cage.targetfile import read_targets_csv
+
+    text = 'label,x_uT,y_uT,z_uT\n"a\nCURR 9\nOUTP ON",1,2,3\nplain,4,5,6\n'
+    path = tmp_path / "targets.csv"
+    path.write_text(text, encoding="utf-8")
+    expected = [r["label"] for r in csv.DictReader(io.StringIO(text, newline=""))]
+    assert [t.label for t in read_targets_csv(path)] == expected == ["a\nCURR 9\nOUTP ON", "plain"]
+    path.write_text(text + "broken,x,5,6\n", encoding="utf-8")
+    with pytest.raises(InputError, match=r"line 6: x_uT"):
+        read_targets_csv(path)
