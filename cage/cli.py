@@ -80,6 +80,20 @@ def _short_lived_gc() -> None:
     gc.set_threshold(50_000, 20, 20)
 
 
+# The command-line parser's own error class (click's ClickException, bundled with typer or not),
+# found from typer's public BadParameter.
+_PARSER_ERROR = next(c for c in typer.BadParameter.__mro__ if c.__name__ == "ClickException")
+
+
+def _parser_message(exc) -> str:
+    """A parser error in one line: the command, what is wrong, where to look (no usage block)."""
+    ctx = getattr(exc, "ctx", None)
+    command = ctx.command_path if ctx is not None else "cage"
+    text = " ".join(_visible(exc.format_message()).split()).rstrip(".")
+    sub = command.partition(" ")[2]
+    return f"{sub + ': ' if sub else ''}{text}; see {command} --help"
+
+
 def main(argv: Optional[list[str]] = None) -> None:
     """Run the command line; user errors end in one line on stderr and a non-zero exit."""
     _short_lived_gc()
@@ -89,7 +103,15 @@ def main(argv: Optional[list[str]] = None) -> None:
         problem = trailing_slash_problem(sys.argv[1:] if argv is None else argv)
         if problem:
             raise InputError(problem)
-        app(args=argv, prog_name="cage")
+        code = app(args=argv, prog_name="cage", standalone_mode=False)
+        if isinstance(code, int) and code:  # a command's own typer.Exit(code)
+            sys.exit(code)
+    except _PARSER_ERROR as exc:  # the parser's: unknown option, bad value, missing argument
+        typer.echo(f"cage: {_parser_message(exc)}", err=True)
+        sys.exit(exc.exit_code)
+    except typer.Abort:
+        typer.echo("cage: aborted", err=True)
+        sys.exit(1)
     except CageError as exc:
         typer.echo(f"cage: {_visible(exc)}".replace("\n", " "), err=True)
         sys.exit(exc.exit_code)
