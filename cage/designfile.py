@@ -167,6 +167,30 @@ class _Reader:
             self.fail(path, f"must be finite, got {_show(value)}")
         return value
 
+    def site_record(self, site: dict) -> None:
+        """The place and date a design was planned for (kept verbatim, used by the re-use rules):
+        the same ranges as a site file's, the date within the field model's span."""
+        import datetime as _dt
+
+        from cage.geomag import FIRST_DATE, LAST_DATE
+        from cage.sitefile import ALTITUDE_RANGE_M, HEADING_RANGE_DEG, LATITUDE_RANGE_DEG, LONGITUDE_RANGE_DEG
+
+        ranges = {"latitude_deg": LATITUDE_RANGE_DEG, "longitude_deg": LONGITUDE_RANGE_DEG,
+                  "altitude_m": ALTITUDE_RANGE_M, "heading_deg": HEADING_RANGE_DEG,
+                  "heading_true_deg": HEADING_RANGE_DEG}
+        for key, (lo, hi) in ranges.items():
+            v = site.get(key)
+            if v is not None and (isinstance(v, bool) or not isinstance(v, (int, float)) or not lo <= v <= hi):
+                self.fail(f"site.{key}", f"must be a number from {lo:g} to {hi:g}, got {_show(v)}")
+        if site.get("date") is not None:
+            try:
+                day = _dt.date.fromisoformat(site["date"]) if isinstance(site["date"], str) else None
+            except ValueError:
+                day = None
+            if day is None or not FIRST_DATE <= day <= LAST_DATE:
+                self.fail("site.date", f"must be a date YYYY-MM-DD from {FIRST_DATE} to {LAST_DATE}, "
+                                       f"got {_show(site['date'])}")
+
     def optional_axis_entries(self, obj, path: str) -> dict:
         extra = {}
         if "wire" in obj:
@@ -311,6 +335,8 @@ class _Reader:
         for key in _TOP_OBJECTS:
             if key in obj:
                 extra[key] = self.verbatim(self.object(obj[key], key), key)
+        if "site" in extra:
+            self.site_record(extra["site"])
         if "envelope_m" in obj:
             env = obj["envelope_m"]
             if not isinstance(env, list):
