@@ -104,7 +104,30 @@ def site_ambient(site) -> Ambient:
     if m.date != site.date:
         notes.append(carried.note)
     note = "; ".join(t for t in (m.note, carried.note) if t)
+    odd = survey_mismatch_warning(carried.field_cage_nT, amb.model_cage_nT, site.source)
+    if odd:
+        notes.append(odd)
     return dataclasses.replace(amb, measured_cage_nT=carried.field_cage_nT, measured_note=note, notes=tuple(notes))
+
+
+# A building's steel and the ground shift the local field by a few microtesla, a tenth of the
+# Earth's field or so (common practice of the trade); a survey off by more than half of it is
+# more likely a mistake of units or axes, or a shielded room.
+SURVEY_MISMATCH_SHARE = 0.5
+
+
+def survey_mismatch_warning(measured_cage_nT, model_cage_nT, where: str) -> str:
+    """A warning when a survey differs from the model field by more than SURVEY_MISMATCH_SHARE of
+    the model's magnitude (both cage frame, nT); '' otherwise."""
+    measured = np.asarray(measured_cage_nT, dtype=float)
+    model = np.asarray(model_cage_nT, dtype=float)
+    diff = float(np.linalg.norm(measured - model))
+    size = float(np.linalg.norm(model))
+    if diff <= SURVEY_MISMATCH_SHARE * size:
+        return ""
+    return (f"warning: {where}: [measured] field_nT differs from the model field by {diff:,.0f} nT, "
+            f"{100.0 * diff / size:.0f} % of its {size:,.0f} nT; a building shifts the field by a few "
+            f"microtesla: check the survey's units (nT) and axes (cage frame), unless the room is shielded")
 
 
 def survey_model_cage_nT(site, heading_true_deg: float) -> tuple[float, float, float]:

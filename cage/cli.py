@@ -104,8 +104,8 @@ def main(argv: Optional[list[str]] = None) -> None:
         if problem:
             raise InputError(problem)
         code = app(args=argv, prog_name="cage", standalone_mode=False)
-        if isinstance(code, int) and code:  # a command's own typer.Exit(code)
-            sys.exit(code)
+        # a command's own typer.Exit(code), else done: exit as the parser's standalone mode does
+        sys.exit(code if isinstance(code, int) else 0)
     except _PARSER_ERROR as exc:  # the parser's: unknown option, bad value, missing argument
         typer.echo(f"cage: {_parser_message(exc)}", err=True)
         sys.exit(exc.exit_code)

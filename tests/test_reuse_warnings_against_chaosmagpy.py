@@ -117,3 +117,23 @@ def test_undated_survey(run_cli, tmp_path):
     undated.write_text(text.replace("date = 2027-03-15\n", "", 1))
     run = run_cli("field", undated)
     assert_one_line_error(run, "measured.date is missing")
+
+
+@pytest.mark.parametrize("share, warned", [(0.0, True), (0.4, True), (0.6, False), (1.0, False)])
+def test_survey_far_from_the_model_is_warned(run_cli, tmp_path, share, warned):
+    # The model field from chaosmagpy's synthesis of the same IGRF-14 coefficients; a survey
+    # of share x that field differs from it by (1 - share) of its magnitude. A building shifts
+    # the field by a few microtesla (common practice of the trade), so more than half the field
+    # away is warned as a likely mistake of units or axes; 0.6 of it and the model itself are not.
+    lat, lon = 52.2, 0.1
+    n, e, d = chaos_ned_nT(lat, lon, 0.0, DATE)
+    site = tmp_path / "site.toml"
+    site.write_text(f'name = "Survey check"\ndate = {DATE.isoformat()}\n'
+                    f"[location]\nlatitude_deg = {lat}\nlongitude_deg = {lon}\naltitude_m = 0.0\n"
+                    f'[orientation]\nheading_deg = 0.0\nheading_reference = "true"\n'
+                    f"[measured]\ndate = {DATE.isoformat()}\n"
+                    f"field_nT = [{share * n:.1f}, {share * e:.1f}, {share * d:.1f}]\n", encoding="utf-8")
+    run = run_cli("field", site, "--json")
+    assert run.code == 0, run
+    assert ("units (nT) and axes" in run.err) is warned, run.err
+    assert any("units (nT) and axes" in w for w in json.loads(run.out)["provenance"]["warnings"]) is warned
