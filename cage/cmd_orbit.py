@@ -156,8 +156,12 @@ def orbit(
 ):
     """The field a spacecraft sees along its orbit (SGP4, IGRF-14), in its body frame."""
     from cage.atomicfile import write_bytes, write_text
+    from cage.cliargs import check_out, check_outputs_differ
     from cage.orbit import orbit_field, sample_times_s
 
+    check_out(out, elements, quaternions)
+    check_out(plot, elements, quaternions, option="--plot")
+    check_outputs_differ(out=out, plot=plot)
     when = parse_utc(start, "--start")
     options = dict(altitude_km=altitude_km, semi_major_axis_km=semi_major_axis_km, eccentricity=eccentricity,
                    inclination_deg=inclination_deg, raan_deg=raan_deg, arg_perigee_deg=arg_perigee_deg,
