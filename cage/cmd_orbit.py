@@ -224,19 +224,28 @@ def read_orbit_series(path: Path):
     if str(path) != "-":
         series = read_field_series_csv(path, frame="cage")
         return series, series_identity(path)
-    data = sys.stdin.read(MAX_STDIN_BYTES + 1)
+    data = _stdin_bytes(MAX_STDIN_BYTES + 1)
     if len(data) > MAX_STDIN_BYTES:
         raise InputError(f"stdin: more than {MAX_STDIN_BYTES} bytes of orbit series")
     with tempfile.TemporaryDirectory(prefix="cage-orbit-") as folder:
         tmp = Path(folder) / "series.csv"
-        tmp.write_text(data, encoding="utf-8")
+        tmp.write_bytes(data)  # as read: the file reader decodes and reports as for a path
         try:
             series = read_field_series_csv(tmp, frame="cage")
         except InputError as exc:
             raise InputError(str(exc).replace(str(tmp), "stdin")) from None
     from cage.provenance import file_identity
 
-    return series, file_identity("stdin", data.encode("utf-8"))
+    return series, file_identity("stdin", data)
+
+
+def _stdin_bytes(limit: int) -> bytes:
+    """At most ``limit`` bytes of stdin, undecoded (a text stream without a byte buffer gives
+    back the bytes its decoder kept as surrogates)."""
+    buffer = getattr(sys.stdin, "buffer", None)
+    if buffer is not None:
+        return buffer.read(limit)
+    return sys.stdin.read(limit).encode("utf-8", "surrogateescape")[:limit]
 
 
 def series_identity(path: Path) -> str:
