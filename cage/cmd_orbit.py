@@ -157,7 +157,7 @@ def orbit(
     """The field a spacecraft sees along its orbit (SGP4, IGRF-14), in its body frame."""
     from cage.atomicfile import write_bytes, write_text
     from cage.cliargs import check_out, check_outputs_differ
-    from cage.orbit import orbit_field, sample_times_s
+    from cage.orbit import orbit_field, outer_field_warning, sample_times_s
 
     check_out(out, elements, quaternions)
     check_out(plot, elements, quaternions, option="--plot")
@@ -172,9 +172,9 @@ def orbit(
     att = _attitude(attitude, spin_axis, spin_rate_deg_s, quaternions)
     sat, name, epoch_time = _satrec(elements, when, options)
     t = sample_times_s(duration_s, step_s)
-    result = orbit_field(sat, when, t, att, ut1_utc_s)
+    result = orbit_field(sat, when, t, att, ut1_utc_s, elements_file=str(elements) if elements is not None else "")
     to_stderr = out is None
-    warnings = [result.warning] if result.warning else []
+    warnings = [w for w in (result.warning, outer_field_warning(result.track)) if w]
     days = abs((when - epoch_time).total_seconds()) / 86400.0
     if days > EPOCH_WARN_DAYS:
         warnings.append(f"warning: the start is {days:.0f} days from the elements' epoch; SGP4 positions "
