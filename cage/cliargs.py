@@ -82,11 +82,20 @@ def place_name(lat_deg: float, lon_deg: float) -> str:
     return f"{latitude_text(lat_deg, 4)}, {longitude_text(lon_deg, 4)}".replace("000 deg", " deg")
 
 
-def check_out(out, *inputs) -> None:
-    """--out must not name one of the command's own inputs (cage.outputs)."""
+def check_out(out, *inputs, option: str = "--out") -> None:
+    """--out (or the output option named by ``option``) must not name one of the command's own
+    inputs (cage.outputs)."""
     from cage.outputs import refuse_overwriting_inputs
 
-    refuse_overwriting_inputs(out, [p for p in inputs if p is not None])
+    refuse_overwriting_inputs(out, [p for p in inputs if p is not None], option=option)
+
+
+def check_outputs_differ(**outputs) -> None:
+    """No two output options name the same file: ``check_outputs_differ(out=out, plot=plot)``
+    checks --out against --plot (cage.outputs)."""
+    from cage.outputs import refuse_same_outputs
+
+    refuse_same_outputs({f"--{name.replace('_', '-')}": path for name, path in outputs.items()})
 
 
 def infer_format(fmt: Optional[str], out: Optional[Path]) -> str:

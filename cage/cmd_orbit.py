@@ -156,8 +156,12 @@ def orbit(
 ):
     """The field a spacecraft sees along its orbit (SGP4, IGRF-14), in its body frame."""
     from cage.atomicfile import write_bytes, write_text
-    from cage.orbit import orbit_field, sample_times_s
+    from cage.cliargs import check_out, check_outputs_differ
+    from cage.orbit import orbit_field, outer_field_warning, sample_times_s
 
+    check_out(out, elements, quaternions)
+    check_out(plot, elements, quaternions, option="--plot")
+    check_outputs_differ(out=out, plot=plot)
     when = parse_utc(start, "--start")
     options = dict(altitude_km=altitude_km, semi_major_axis_km=semi_major_axis_km, eccentricity=eccentricity,
                    inclination_deg=inclination_deg, raan_deg=raan_deg, arg_perigee_deg=arg_perigee_deg,
@@ -168,9 +172,9 @@ def orbit(
     att = _attitude(attitude, spin_axis, spin_rate_deg_s, quaternions)
     sat, name, epoch_time = _satrec(elements, when, options)
     t = sample_times_s(duration_s, step_s)
-    result = orbit_field(sat, when, t, att, ut1_utc_s)
+    result = orbit_field(sat, when, t, att, ut1_utc_s, elements_file=str(elements) if elements is not None else "")
     to_stderr = out is None
-    warnings = [result.warning] if result.warning else []
+    warnings = [w for w in (result.warning, outer_field_warning(result.track)) if w]
     days = abs((when - epoch_time).total_seconds()) / 86400.0
     if days > EPOCH_WARN_DAYS:
         warnings.append(f"warning: the start is {days:.0f} days from the elements' epoch; SGP4 positions "
@@ -220,19 +224,28 @@ def read_orbit_series(path: Path):
     if str(path) != "-":
         series = read_field_series_csv(path, frame="cage")
         return series, series_identity(path)
-    data = sys.stdin.read(MAX_STDIN_BYTES + 1)
+    data = _stdin_bytes(MAX_STDIN_BYTES + 1)
     if len(data) > MAX_STDIN_BYTES:
         raise InputError(f"stdin: more than {MAX_STDIN_BYTES} bytes of orbit series")
     with tempfile.TemporaryDirectory(prefix="cage-orbit-") as folder:
         tmp = Path(folder) / "series.csv"
-        tmp.write_text(data, encoding="utf-8")
+        tmp.write_bytes(data)  # as read: the file reader decodes and reports as for a path
         try:
             series = read_field_series_csv(tmp, frame="cage")
         except InputError as exc:
             raise InputError(str(exc).replace(str(tmp), "stdin")) from None
     from cage.provenance import file_identity
 
-    return series, file_identity("stdin", data.encode("utf-8"))
+    return series, file_identity("stdin", data)
+
+
+def _stdin_bytes(limit: int) -> bytes:
+    """At most ``limit`` bytes of stdin, undecoded (a text stream without a byte buffer gives
+    back the bytes its decoder kept as surrogates)."""
+    buffer = getattr(sys.stdin, "buffer", None)
+    if buffer is not None:
+        return buffer.read(limit)
+    return sys.stdin.read(limit).encode("utf-8", "surrogateescape")[:limit]
 
 
 def series_identity(path: Path) -> str:

@@ -41,7 +41,7 @@ def register(app: typer.Typer) -> None:
         import numpy as np
 
         from cage import sitefile
-        from cage.cliargs import check_out, infer_format, load_checked_design
+        from cage.cliargs import check_out, check_outputs_differ, infer_format, load_checked_design
         from cage.cmd_setpoints import read_calibration
         from cage.setpointfile import render
         from cage.setpointtext import setpoints_text
@@ -54,7 +54,8 @@ def register(app: typer.Typer) -> None:
         site = sitefile.load_site(site_file)
         kind = infer_format(fmt, out)
         check_out(out, design_file, site_file, series, orbit, calibration)
-        check_out(plot, design_file, site_file, series, orbit, calibration)
+        check_out(plot, design_file, site_file, series, orbit, calibration, option="--plot")
+        check_outputs_differ(out=out, plot=plot)
         ctx = setpoint_context(design_obj, site, read_calibration(calibration),
                                "" if calibration is None else str(calibration))
         from cage.frames import ned_to_cage

@@ -38,6 +38,13 @@ WGS72_MU_KM3_S2 = 398600.8  # the gravity constant SGP4 element sets are made wi
 SECONDS_PER_DAY = 86400.0
 MAX_SAMPLES = 1_000_000
 SGP4_EPOCH_ORIGIN = _dt.datetime(1949, 12, 31)  # sgp4init's epoch counts days from here (UT)
+MIN_HEIGHT_KM = 100.0  # lowest perigee (options) or height along the span (element sets) accepted
+EARTH_RADIUS_KM = 6371.0  # mean radius, for distances stated in Earth radii
+# The day-side magnetopause stands near 10 Earth radii from the Earth's centre (a common figure
+# of the trade, from memory; it moves with the solar wind, from about 6 to 15). Beyond it the
+# field of the solar wind and of the magnetosphere's currents, which IGRF-14 (the Earth's
+# internal field only) leaves out, dominates; the internal field there is a few nT.
+MAGNETOPAUSE_RADIUS_KM = 10.0 * EARTH_RADIUS_KM
 
 
 @dataclass(frozen=True, eq=False)
@@ -207,8 +214,9 @@ def satrec_from_elements(epoch: _dt.datetime, eccentricity: float, inclination_d
         if not math.isfinite(value):
             raise InputError(f"{what} must be a finite angle in degrees, got {value!r}")
     perigee_km = a * (1.0 - e) - WGS84_A_KM
-    if perigee_km < 100.0:
-        raise InputError(f"perigee height {perigee_km:.1f} km is below 100 km: the orbit would decay at once")
+    if perigee_km < MIN_HEIGHT_KM:
+        raise InputError(f"perigee height {perigee_km:.1f} km is below {MIN_HEIGHT_KM:g} km: the orbit would "
+                         f"decay at once")
     n_rad_min = math.sqrt(WGS72_MU_KM3_S2 / a ** 3) * 60.0
     epoch_days = (epoch - SGP4_EPOCH_ORIGIN).total_seconds() / SECONDS_PER_DAY
     sat = Satrec()
@@ -218,6 +226,31 @@ def satrec_from_elements(epoch: _dt.datetime, eccentricity: float, inclination_d
     if sat.error:
         raise InputError(f"the orbital elements cannot be propagated ({SGP4_ERRORS.get(sat.error, sat.error)})")
     return sat
+
+
+def check_height(track: Track, where: str) -> None:
+    """InputError naming ``where`` (the element set's file) when the track's geodetic height
+    comes below MIN_HEIGHT_KM anywhere in the span: the orbit has decayed, or would at once."""
+    k = int(np.argmin(track.altitude_km))
+    low_km = float(track.altitude_km[k])
+    if low_km < MIN_HEIGHT_KM:
+        when = track.start + _dt.timedelta(seconds=float(track.t_s[k]))
+        raise InputError(f"{where}: the orbit's height falls to {low_km:.1f} km at t = {track.t_s[k]:g} s "
+                         f"({when:%Y-%m-%dT%H:%M:%S} UTC), below {MIN_HEIGHT_KM:g} km: the orbit has decayed or "
+                         f"would decay at once")
+
+
+def outer_field_warning(track: Track) -> str:
+    """'' or a warning when the track goes farther than MAGNETOPAUSE_RADIUS_KM from the Earth's
+    centre, where IGRF-14 (an internal-field model) no longer describes the field."""
+    r_km = np.linalg.norm(track.position_ecef_km, axis=1)
+    k = int(np.argmax(r_km))
+    if not r_km[k] > MAGNETOPAUSE_RADIUS_KM:
+        return ""
+    return (f"warning: the orbit reaches {r_km[k]:,.0f} km from the Earth's centre ({r_km[k] / EARTH_RADIUS_KM:.1f} "
+            f"Earth radii) at t = {track.t_s[k]:g} s; beyond about {MAGNETOPAUSE_RADIUS_KM:,.0f} km (10 Earth radii, "
+            f"the day-side magnetopause) external sources dominate and IGRF-14, the Earth's internal field only, "
+            f"does not describe the field there")
 
 
 def field_teme_nT(track: Track) -> tuple[np.ndarray, np.ndarray, str]:
@@ -246,14 +279,19 @@ class OrbitField:
     warning: str
 
 
-def orbit_field(satrec, start: _dt.datetime, t_s, attitude, ut1_minus_utc_s: float = 0.0) -> OrbitField:
+def orbit_field(satrec, start: _dt.datetime, t_s, attitude, ut1_minus_utc_s: float = 0.0,
+                elements_file: str = "") -> OrbitField:
     """Propagate, evaluate IGRF-14 along the track and turn the field into the body frame.
 
-    attitude: a :class:`cage.attitude.Attitude`.
+    attitude: a :class:`cage.attitude.Attitude`. elements_file: the element set's file, if
+    the orbit comes from one; a track below MIN_HEIGHT_KM is then refused naming it
+    (:func:`check_height`), before the field is evaluated.
     """
     from cage.attitude import attitude_matrices, body_field_nT
 
     track = propagate(satrec, start, t_s, ut1_minus_utc_s)
+    if elements_file:
+        check_height(track, elements_file)
     teme, _, warning = field_teme_nT(track)
     m = attitude_matrices(attitude, track.t_s, track.position_teme_km, track.velocity_teme_km_s)
     body = body_field_nT(m, teme)

@@ -1,7 +1,9 @@
 """Where outputs go: never onto an input, and a plan folder written as one unit.
 
-- :func:`refuse_overwriting_inputs`: ``--out`` naming one of the command's own inputs (or,
-  for a folder, a folder holding one) is an error, before anything is computed.
+- :func:`refuse_overwriting_inputs`: ``--out`` (or ``--plot``) naming one of the command's own
+  inputs (or, for a folder, a folder holding one) is an error, before anything is computed.
+- :func:`refuse_same_outputs`: two output options naming one file (one write would replace
+  the other) is an error too.
 - :func:`trailing_slash_problem`: ``--out name/`` means a folder; a command that writes one
   file refuses it instead of writing a file called ``name``.
 - :func:`write_folder`: the whole folder is built beside the target (``.NAME.cage-new-PID-*``)
@@ -38,23 +40,36 @@ def _same(a: Path, b: Path) -> bool:
         return False
 
 
-def refuse_overwriting_inputs(out, inputs, *, folder: bool = False) -> None:
-    """InputError when ``out`` is one of ``inputs`` (or, for a folder, holds one)."""
+def refuse_overwriting_inputs(out, inputs, *, folder: bool = False, option: str = "--out") -> None:
+    """InputError when ``out`` is one of ``inputs`` (or, for a folder, holds one).
+
+    option: the output option the message names ("--out", "--plot").
+    """
     if out is None:
         return
     out = Path(out)
     for p in inputs:
         p = Path(p)
         if _same(out, p):
-            raise InputError(f"--out {out} is one of this command's inputs; give another name")
+            raise InputError(f"{option} {out} is one of this command's inputs; give another name")
         if folder:
             try:
                 inside = out.resolve() in p.resolve().parents
             except OSError:
                 inside = False
             if inside:
-                raise InputError(f"--out {out} holds {p}, an input of this command; the folder is replaced "
+                raise InputError(f"{option} {out} holds {p}, an input of this command; the folder is replaced "
                                  f"as a whole, so give another folder")
+
+
+def refuse_same_outputs(outputs: dict) -> None:
+    """InputError when two output options (option name -> path or None) name the same file."""
+    given = [(name, Path(path)) for name, path in outputs.items() if path is not None]
+    for i, (name, path) in enumerate(given):
+        for other, other_path in given[i + 1:]:
+            if _same(path, other_path):
+                raise InputError(f"{name} {path} and {other} {other_path} name the same file; one would "
+                                 f"overwrite the other, so give two names")
 
 
 def trailing_slash_problem(argv) -> str:
