@@ -114,7 +114,7 @@ def register(app: typer.Typer) -> None:
 
             pngs = connection_pngs(sheet)
             for file_name in pngs:
-                check_out(figures / file_name, design_file)
+                check_out(figures / file_name, design_file, option="--figures")
             try:
                 figures.mkdir(parents=True, exist_ok=True)
             except OSError as exc:

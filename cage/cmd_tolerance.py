@@ -320,7 +320,7 @@ def register(app: typer.Typer) -> None:
 
         from cage.cliargs import check_out
 
-        check_out(plot, design_file, site_file, calibration)
+        check_out(plot, design_file, site_file, calibration, option="--plot")
         if seed is not None and not 0 <= seed < 2**32:
             raise InputError(f"--seed must be a whole number from 0 to {2**32 - 1}, got {seed}")
         if samples < 2 or samples > 1_000_000:
