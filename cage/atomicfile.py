@@ -19,7 +19,8 @@ def write_bytes(path: str | os.PathLike, data: bytes) -> Path:
     target = Path(path)
     folder = target.parent if str(target.parent) else Path(".")
     if not folder.is_dir():
-        raise InputError(f"{target}: output folder {folder} does not exist")
+        what = "is a file, not a folder" if folder.exists() else "does not exist"
+        raise InputError(f"{target}: output folder {folder} {what}")
     if target.is_dir():
         raise InputError(f"{target}: is a folder, not a file")
     _refuse_special(target)

@@ -239,7 +239,7 @@ class _Reader:
             self.fail(f"{path}.coils", "is missing")
         items = obj["coils"]
         if not isinstance(items, list) or not items:
-            self.fail(f"{path}.coils", f"must be a list of coils, got {_show(items)}")
+            self.fail(f"{path}.coils", f"must be a non-empty list of coils, got {_show(items)}")
         want = SYSTEM_COIL_COUNTS.get(system)
         if want is not None and len(items) != want:
             self.fail(f"{path}.coils", f"must hold {want} coils for the {system} system, got {len(items)}")

@@ -140,11 +140,14 @@ def make_provenance(site, ambient, *, derived_from=None, warnings=(), heading_no
 
 def heading_text(ambient) -> str:
     """How the cage's true azimuth was fixed, in words."""
+    from cage.numberformat import azimuth_text
+
+    true = azimuth_text(ambient.heading_true_deg)  # 0-360 clockwise from north, as everywhere shown
     if ambient.heading_reference == "magnetic":
-        return (f"{ambient.heading_true_deg:.2f} deg true, fixed from {ambient.heading_deg_given:.2f} deg magnetic "
+        return (f"{true} deg true, fixed from {azimuth_text(ambient.heading_deg_given)} deg magnetic "
                 f"with the declination of {ambient.earth.date.isoformat()} "
                 f"({ambient.earth.declination_deg:+.2f} deg)")
-    return f"{ambient.heading_true_deg:.2f} deg true"
+    return f"{true} deg true"
 
 
 def provenance_of(doc) -> dict | None:

@@ -110,7 +110,7 @@ class _Reader:
         if nonnegative and value < 0:
             raise self.fail(full, f"must not be negative, got {value:g}")
         if lo is not None and hi is not None and not lo <= value <= hi:
-            raise self.fail(full, f"must be between {lo:g} and {hi:g}, got {value:g}")
+            raise self.fail(full, f"must be between {lo:g} and {hi:g}, got {value!r}")
         return value
 
     def text(self, table: dict, key: str, prefix: str, *, default=None, choices=None) -> str:
@@ -163,6 +163,8 @@ class _Reader:
 
 
 def _show(value: Any) -> str:
+    if isinstance(value, (_dt.date, _dt.time)):  # a TOML date or time, as written in the file
+        return f"{value.isoformat()} (a {'time' if isinstance(value, _dt.time) else 'date'})"
     text = repr(value)
     return text if len(text) <= 40 else text[:37] + "..."
 

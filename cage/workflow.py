@@ -315,7 +315,7 @@ def flag_rows(table, limit: int = 10):
         return table
     more = "" if len(bad) <= limit else f" and {len(bad) - limit} more"
     return dataclasses.replace(table, warnings=table.warnings + (
-        f"{len(bad)} rows outside the supplies' limits (flagged, not clipped): "
+        f"{len(bad)} row{'' if len(bad) == 1 else 's'} outside the supplies' limits (flagged, not clipped): "
         f"{', '.join(for_terminal(b) for b in bad[:limit])}{more}",))
 
 
