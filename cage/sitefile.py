@@ -320,6 +320,14 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
         if len(measured.points_m) != len(measured.fields_nT):
             raise r.fail("measured.fields_nT", f"has {len(measured.fields_nT)} readings for "
                                                f"{len(measured.points_m)} points_m")
+        # survey points lie in the room around the cage: none farther from the centre than the
+        # room's diagonal (100 m without a room)
+        reach = math.hypot(room.length_m, room.width_m, room.height_m) if room is not None else 100.0
+        for i, p in enumerate(measured.points_m):
+            if math.hypot(*p) > reach:
+                raise r.fail(f"measured.points_m[{i}]", f"is {math.hypot(*p):g} m from the cage centre, farther than "
+                                                         f"{'the room' + chr(39) + 's diagonal' if room else 'a survey'} "
+                                                         f"({reach:.3g} m); points are in metres from the centre")
         if math.sqrt(sum(v * v for v in measured.field_nT)) > 1e6:
             raise r.fail("measured.field_nT", "is above 1,000,000 nT (1 mT); is it in nT?")
         if measured.date is None:

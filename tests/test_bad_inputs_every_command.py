@@ -501,6 +501,11 @@ CASES = [
                                                             'points_m = [[0, 0, 0], [1, 0, 0]]\n'
                                                             'fields_nT = [[1, 2, 3]]\n')],
          ("bad.toml", "measured.fields_nT")),
+    Case("field: a survey point 100 m away in a small room",
+         lambda c: ["field", c.site(append='\n[measured]\nfield_nT = [1.0, 2.0, 3.0]\n'
+                                           'points_m = [[0, 0, 0], [100, 0, 0], [0, 1, 0], [0, 0, 1]]\n'
+                                           'fields_nT = [[1, 2, 3], [1, 2, 3], [1, 2, 3], [1, 2, 3]]\n')],
+         ("bad.toml", "measured.points_m[1]", "100")),
     Case("tolerance: survey points on one line",
          lambda c: ["tolerance", G_DESIGN(c), c.site(append='\n[measured]\nfield_nT = [1.0, 2.0, 3.0]\n'
                                                             'points_m = [[0, 0, 0], [1, 0, 0], [2, 0, 0]]\n'
