@@ -330,6 +330,10 @@ CASES = [
     Case("setpoints: --previous of another format",
          lambda c: ["setpoints", G_DESIGN(c), G_SITE(c), "--previous", c.write("old.json", '{"format": "cage-design"}')],
          ("old.json", "cage-setpoints")),
+    Case("setpoints: --previous NaN null current",
+         lambda c: ["setpoints", G_DESIGN(c), G_SITE(c), "--previous", c.write("old.json",
+             '{"format": "cage-setpoints", "rows": [{"label": "null", "current_A": {"x": NaN, "y": 0.1, "z": 0.2}}]}')],
+         ("old.json", "row 1", "null", "current_A x", "finite")),
     Case("setpoints: calibration singular",
          lambda c: ["setpoints", G_DESIGN(c), G_SITE(c), "--calibration", c.write("cal.json", json.dumps(
              {"format": "cage-calibration", "version": 1, "coupling_nT_per_A": [[1, 0, 0], [2, 0, 0], [0, 0, 1]],
