@@ -30,6 +30,13 @@ LOSSES = ("soft_l1", "huber", "cauchy", "arctan", "linear")
 # 1.4826 = 1 / Phi^-1(3/4): the MAD of a normal sample times this estimates its sigma
 # (Rousseeuw & Croux, J. Am. Stat. Assoc. 88, 1273 (1993)).
 MAD_TO_SIGMA = 1.482602218505602
+# What a usable calibration holds (outside: a damaged file or a failed fit): coupling entries
+# 1e-3 nT/A .. 1 T/A, offset within 10 mT (the Earth's field is below 0.07 mT; a lab's magnets
+# add less than 10 mT), and a coupling that can be inverted for the currents.
+MIN_COUPLING_NT_PER_A = 1e-3
+MAX_COUPLING_NT_PER_A = 1e9
+MAX_OFFSET_NT = 1e7
+MAX_CONDITION = 1e10
 
 
 def _frozen(a) -> np.ndarray:
@@ -175,6 +182,57 @@ def check_current_set(currents_A, where: str = "") -> None:
         names = ", ".join(AXES[j] for j in involved[:-1]) + f" and {AXES[involved[-1]]}"
         detail = f"the {names} currents always keep {' '.join(terms)} constant"
     raise InputError(f"{pre}the current sets cannot separate the axes: {detail}; add rows that vary it")
+
+
+def check_usable(coupling_nT_per_A, offset_nT, where: str = "", coupling_name: str = "coupling_nT_per_A",
+                 offset_name: str = "offset_nT") -> None:
+    """Raise InputError unless a coupling K (3 x 3, nT/A, finite) and offset B0 (3,), nT, can
+    make setpoints: the one rule for the calibration file's reader and for ``cage calibrate``
+    before it writes one.
+
+    Refused: an entry of K beyond 1 T/A, K below 1e-3 nT/A everywhere, a component of B0
+    beyond 10 mT, or K singular (condition number above MAX_CONDITION); the last names the
+    axis that adds no field or the axes whose fields are not independent. ``where`` (a file
+    name) starts the message, ``coupling_name`` and ``offset_name`` name the two.
+    """
+    k = np.asarray(coupling_nT_per_A, dtype=float)
+    b0 = np.asarray(offset_nT, dtype=float)
+    pre = _where(where)
+    if np.any(np.abs(k) > MAX_COUPLING_NT_PER_A):
+        raise InputError(f"{pre}{coupling_name} has an entry beyond {MAX_COUPLING_NT_PER_A:g} nT/A (1 T/A)")
+    if np.max(np.abs(k)) < MIN_COUPLING_NT_PER_A:
+        raise InputError(f"{pre}{coupling_name} is below {MIN_COUPLING_NT_PER_A:g} nT/A everywhere; "
+                         "no coil cage is that weak (the field does not change with the currents)")
+    if np.any(np.abs(b0) > MAX_OFFSET_NT):
+        raise InputError(f"{pre}{offset_name} has a component beyond {MAX_OFFSET_NT:g} nT (10 mT)")
+    _, s, vt = np.linalg.svd(k)
+    if s[-1] > s[0] / MAX_CONDITION:
+        return
+    cond = s[0] / s[-1] if s[-1] > 0 else math.inf
+    null = vt[-1] / np.abs(vt[-1]).max()  # currents that make (almost) no field
+    involved = [AXES[j] for j in range(3) if abs(null[j]) > 1e-3]
+    if len(involved) == 1:
+        detail = f"axis {involved[0]} adds no field (a dead coil, an open circuit or its supply not connected?)"
+    elif len(involved) == 2:
+        detail = f"axes {involved[0]} and {involved[1]} drive the field along the same line"
+    else:
+        detail = "axes x, y and z drive the field in one plane only"
+    raise InputError(f"{pre}{coupling_name} is singular (condition number {cond:.3g}): {detail}; "
+                     "it cannot give null currents")
+
+
+def reversed_axes_warnings(coupling_nT_per_A, design_coupling_nT_per_A) -> list[str]:
+    """One warning per axis whose field (column of K, nT/A) points more than 90 degrees from
+    its nominal direction (the design's column): the coil or its supply is wired backwards.
+    Only a warning: the currents computed from K are right either way. Raises InputError as
+    :func:`build_check` does."""
+    return _reversed_warnings(build_check(coupling_nT_per_A, design_coupling_nT_per_A).misalignment_deg)
+
+
+def _reversed_warnings(misalignment_deg) -> list[str]:
+    return [f"axis {axis} drives the field against its nominal direction ({angle:.0f} deg): "
+            "the coil or its supply is wired backwards?"
+            for axis, angle in zip(AXES, misalignment_deg) if angle > 90.0]
 
 
 def _design_matrix(currents_A: np.ndarray) -> np.ndarray:
@@ -351,7 +409,8 @@ def build_check(fit_or_coupling, design_coupling_nT_per_A) -> BuildCheck:
     """
     k = np.asarray(getattr(fit_or_coupling, "coupling_nT_per_A", fit_or_coupling), dtype=float)
     d = np.asarray(design_coupling_nT_per_A, dtype=float)
-    for name, m in (("fitted coupling", k), ("design coupling", d)):
+    pre = _where(getattr(fit_or_coupling, "source_file", ""))
+    for name, m in ((f"{pre}fitted coupling", k), ("design coupling", d)):
         if m.shape != (3, 3):
             raise InputError(f"{name} must be 3 x 3 (nT/A), got shape {m.shape}")
         if not np.all(np.isfinite(m)):
@@ -383,7 +442,8 @@ def calibration_summary(fit: CalibrationFit, build_check: BuildCheck | None = No
     numbers, when ``line_numbers`` — one per data row, as the CSV reader gives — is
     passed), condition_number, coupling_stderr_nT_per_A, offset_stderr_nT, source_file,
     build_check (None or {scale_error_percent {x,y,z}, non_orthogonality_deg {xy,yz,zx},
-    misalignment_deg {x,y,z}}).
+    misalignment_deg {x,y,z}}), warnings (an axis wired backwards, see
+    :func:`reversed_axes_warnings`).
     """
     from cage.errors import InfeasibleError
 
@@ -417,7 +477,9 @@ def calibration_summary(fit: CalibrationFit, build_check: BuildCheck | None = No
     })
     if build_check is None:
         out["build_check"] = None
+        out["warnings"] = []
     else:
+        out["warnings"] = _reversed_warnings(build_check.misalignment_deg)
         out["build_check"] = {
             "scale_error_percent": {a: float(v) for a, v in zip(AXES, build_check.scale_error_percent)},
             "non_orthogonality_deg": dict(build_check.non_orthogonality_deg),

@@ -24,7 +24,7 @@ from pathlib import Path
 import numpy as np
 
 from cage.atomicfile import write_text
-from cage.calibrate import CalibrationFit
+from cage.calibrate import CalibrationFit, check_usable
 from cage.errors import InputError
 
 FORMAT = "cage-calibration"
@@ -34,12 +34,6 @@ OPTIONAL_NUMBER_KEYS = ("rms_residual_nT", "rms_residual_all_nT", "noise_sigma_n
 OPTIONAL_TEXT_KEYS = ("source_file", "design", "design_checksum")
 OPTIONAL_KEYS = OPTIONAL_NUMBER_KEYS + OPTIONAL_TEXT_KEYS + (
     "n_rows", "n_outliers", "outlier_rows", "coupling_stderr_nT_per_A", "offset_stderr_nT", "provenance")
-MAX_CONDITION = 1e10
-# Plausible ranges (a value outside is a damaged file): 1e-3 nT/A .. 1 T/A per entry, offset
-# within 10 mT (the Earth's field is below 0.07 mT; a lab's magnets add less than 10 mT).
-MIN_COUPLING_NT_PER_A = 1e-3
-MAX_COUPLING_NT_PER_A = 1e9
-MAX_OFFSET_NT = 1e7
 
 
 @dataclass(frozen=True, eq=False)
@@ -158,17 +152,7 @@ def load_calibration_record(path: str | os.PathLike) -> CalibrationRecord:
 
     k = _matrix(p, "coupling_nT_per_A", doc["coupling_nT_per_A"])
     b0 = _vector(p, "offset_nT", doc["offset_nT"])
-    if np.any(np.abs(k) > MAX_COUPLING_NT_PER_A):
-        raise InputError(f"{p}: coupling_nT_per_A has an entry beyond {MAX_COUPLING_NT_PER_A:g} nT/A (1 T/A)")
-    if np.max(np.abs(k)) < MIN_COUPLING_NT_PER_A:
-        raise InputError(f"{p}: coupling_nT_per_A is below {MIN_COUPLING_NT_PER_A:g} nT/A everywhere; "
-                         "no coil cage is that weak")
-    if np.any(np.abs(b0) > MAX_OFFSET_NT):
-        raise InputError(f"{p}: offset_nT has a component beyond {MAX_OFFSET_NT:g} nT (10 mT)")
-    s = np.linalg.svd(k, compute_uv=False)
-    if not s[-1] > s[0] / MAX_CONDITION:
-        cond = s[0] / s[-1] if s[-1] > 0 else math.inf
-        raise InputError(f"{p}: coupling_nT_per_A is singular (condition number {cond:.3g}); it cannot give null currents")
+    check_usable(k, b0, str(p))
 
     numbers = {key: _finite(p, key, doc[key], allow_null=True) if key in doc else math.nan
                for key in OPTIONAL_NUMBER_KEYS}

@@ -76,19 +76,24 @@ def register(app: typer.Typer) -> None:
                       f"temperature ({'; '.join(why)}); condition of the fit "
                       f"{design_condition_number(currents):.2f}. Record the field at each, in the cage frame.")
             return
-        from cage.calibrate import build_check, calibration_summary, fit_calibration
+        from cage.calibrate import build_check, calibration_summary, check_usable, fit_calibration
         from cage.calibrationfile import save_calibration
         from cage.measurements import read_calibration_csv
 
+        # --site and --date are checked whether or not a file is written
+        prov = (readings_provenance(design_obj, site_file, date, data_file)
+                if out is not None or site_file is not None or date is not None else None)
         readings = read_calibration_csv(data_file)
         fit = fit_calibration(readings.currents_A, readings.field_nT, source_file=str(data_file))
+        check_usable(fit.coupling_nT_per_A, fit.offset_nT, str(data_file), "the fitted coupling", "the fitted offset")
         check = build_check(fit, design_coupling_nT_per_A(design_obj))
         summary = calibration_summary(fit, check, readings.line_numbers)
         if out is not None:
-            prov = readings_provenance(design_obj, site_file, date, data_file)
             save_calibration(out, fit, source_file=str(data_file), design=str(design_file), provenance=prov.as_dict())
             for w in prov.warnings:
                 warn(w)
+        for w in summary["warnings"]:
+            warn(w)
         if as_json:
             typer.echo(dump_json(summary), nl=False)
         else:

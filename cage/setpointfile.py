@@ -291,7 +291,8 @@ def render(table: SetpointTable, fmt: str) -> str:
 
 
 def load_table_json(path) -> dict:
-    """An earlier setpoints JSON document (for --previous), checked for its format."""
+    """An earlier setpoints JSON document (for --previous), checked for its format, its null row
+    and finite currents (null only for an axis a row could not reach, never in the null row)."""
     from cage.textfile import read_json_object
 
     doc = read_json_object(path, "setpoints file")
@@ -299,4 +300,19 @@ def load_table_json(path) -> dict:
         raise InputError(f"{path}: not a cage-setpoints JSON file (write one with --format json)")
     if not isinstance(doc.get("rows"), list):
         raise InputError(f"{path}: rows must be a list")
+    for k, row in enumerate(doc["rows"]):
+        currents = row.get("current_A") if isinstance(row, dict) else None
+        if not isinstance(currents, dict):
+            continue
+        label = row.get("label")
+        where = f"{path}: row {k + 1}" + (f" ({one_line(label)[:40]})" if isinstance(label, str) else "")
+        for a in AXES:
+            v = currents.get(a)
+            if v is None and label != "null":
+                continue  # an axis the table could not reach
+            if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
+                raise InputError(f"{where}: current_A {a} must be a finite number (A), got {json.dumps(v)[:40]}")
+    if not any(isinstance(r, dict) and r.get("label") == "null" and isinstance(r.get("current_A"), dict)
+               for r in doc["rows"]):
+        raise InputError(f"{path}: no null row with current_A for x, y, z to compare with")
     return doc

@@ -14,9 +14,7 @@ def setpoints_text(table) -> str:
 
     lines = [f"Current table for {for_terminal(table.site)} ({table.source} field, {table.date})",
              "ambient (cage frame): " + ", ".join(f"{a} {v:,.1f} nT" for a, v in zip("xyz", table.ambient_cage_nT)),
-             "",
-             f"{'row':<10}{'target x, y, z (nT)':>32}{'I x (A)':>10}{'I y (A)':>10}{'I z (A)':>10}"
-             f"{'V max (V)':>10}{'power (W)':>10}{'rounding (nT)':>14}  limits"]
+             ""]
     sp = table.supply_setpoint_A
     with np.errstate(invalid="ignore"):
         vmax = np.nanmax(np.where(np.isnan(table.voltage_V), -np.inf, np.abs(table.voltage_V)), axis=1)
@@ -25,19 +23,31 @@ def setpoints_text(table) -> str:
     unipolar = table.unipolar
     within = table.within_limits
     power = table.total_power_W
-    fmts = [f"%10.{_decimals_for(s)}f" for s in table.supplies]
+    fmts = [f"%.{_decimals_for(s)}f" for s in table.supplies]
+    rows, flags = [], []
     for r in range(len(table)):
         t = table.target_cage_nT[r]
-        target = f"{t[0]:.1f}, {t[1]:.1f}, {t[2]:.1f}"
-        cur = "".join(f % v for f, v in zip(fmts, sp[r]))
-        v = f"{vmax[r]:>10.2f}" if np.isfinite(vmax[r]) else f"{'-':>10}"
-        pw = f"{power[r]:>10.1f}" if np.isfinite(power[r]) else f"{'-':>10}"
+        rows.append([for_terminal(table.labels[r]), f"{t[0]:.1f}, {t[1]:.1f}, {t[2]:.1f}",
+                     *(f % v for f, v in zip(fmts, sp[r])),
+                     f"{vmax[r]:.2f}" if np.isfinite(vmax[r]) else "-",
+                     f"{power[r]:.1f}" if np.isfinite(power[r]) else "-",
+                     f"{table.field_error_nT[r]:.1f}"])
         flag = "ok" if within[r] else "OUTSIDE: " + for_terminal("; ".join(table.row_problems(r)))
         if unipolar.any():
             flag += " (polarity " + ", ".join(
                 f"{ax} {'REVERSE' if reverse[r, j] else 'forward'}" for j, ax in enumerate("xyz") if unipolar[j]) + ")"
-        lines.append(f"{for_terminal(table.labels[r]):<10}{target:>32}{cur}{v}{pw}{table.field_error_nT[r]:>14.1f}"
-                     f"  {flag}")
+        flags.append(flag)
+    # the usual widths, wider where a cell needs it: at least one space always parts two columns
+    head = ["row", "target x, y, z (nT)", "I x (A)", "I y (A)", "I z (A)", "V max (V)", "power (W)", "rounding (nT)"]
+    widths = [max([w] + [len(c) + 1 for c in col])
+              for w, col in zip((10, 32, 10, 10, 10, 10, 10, 14), zip(head, *rows))]
+
+    def line(cells, flag):
+        return (f"{cells[0]:<{widths[0]}}" + "".join(f"{c:>{w}}" for c, w in zip(cells[1:], widths[1:]))
+                + f"  {flag}")
+
+    lines.append(line(head, "limits"))
+    lines += [line(cells, flag) for cells, flag in zip(rows, flags)]
     return "\n".join(lines)
 
 

@@ -350,6 +350,10 @@ CASES = [
     Case("setpoints: --previous of another format",
          lambda c: ["setpoints", G_DESIGN(c), G_SITE(c), "--previous", c.write("old.json", '{"format": "cage-design"}')],
          ("old.json", "cage-setpoints")),
+    Case("setpoints: --previous NaN null current",
+         lambda c: ["setpoints", G_DESIGN(c), G_SITE(c), "--previous", c.write("old.json",
+             '{"format": "cage-setpoints", "rows": [{"label": "null", "current_A": {"x": NaN, "y": 0.1, "z": 0.2}}]}')],
+         ("old.json", "row 1", "null", "current_A x", "finite")),
     Case("setpoints: calibration singular",
          lambda c: ["setpoints", G_DESIGN(c), G_SITE(c), "--calibration", c.write("cal.json", json.dumps(
              {"format": "cage-calibration", "version": 1, "coupling_nT_per_A": [[1, 0, 0], [2, 0, 0], [0, 0, 1]],
@@ -393,6 +397,22 @@ CASES = [
     Case("calibrate: readings absurd current",
          lambda c: ["calibrate", G_DESIGN(c), c.write("r.csv", _readings(c, 22).replace("\n0.000000,", "\n1e300,", 1))],
          ("r.csv", "column current_x_A")),
+    Case("calibrate: field never changes",
+         lambda c: ["calibrate", G_DESIGN(c), c.write("r.csv", _readings_of(c, np.zeros((3, 3)))),
+                    "--out", c.out(c.tmp / "cal.json")], ("r.csv", "fitted coupling", "below 0.001 nT/A")),
+    Case("calibrate: every reading zero",
+         lambda c: ["calibrate", G_DESIGN(c), c.write("r.csv", _readings_of(c, np.zeros((3, 3)), b0=(0, 0, 0))),
+                    "--out", c.out(c.tmp / "cal.json")], ("r.csv", "fitted coupling")),
+    Case("calibrate: y coil dead",
+         lambda c: ["calibrate", G_DESIGN(c), c.write("r.csv", _readings_of(c, np.diag([4e4, 0.0, 5e4]))),
+                    "--out", c.out(c.tmp / "cal.json")], ("r.csv", "singular", "axis y")),
+    Case("calibrate: x and y coils make one field",
+         lambda c: ["calibrate", G_DESIGN(c), c.write("r.csv", _readings_of(c, [[4e4, 4e4, 0], [0, 0, 0], [0, 0, 5e4]])),
+                    "--json", "--out", c.out(c.tmp / "cal.json")], ("r.csv", "singular", "axes x and y")),
+    Case("calibrate: --date month 13 without --out",
+         lambda c: ["calibrate", G_DESIGN(c), c.good.readings, "--date", "2026-13-01"], ("--date", "2026-13-01")),
+    Case("calibrate: --site empty without --out",
+         lambda c: ["calibrate", G_DESIGN(c), c.good.readings, "--site", c.write("empty.toml", "")], ("empty.toml",)),
     Case("calibrate: output folder missing",
          lambda c: ["calibrate", G_DESIGN(c), c.good.readings, "--json", "--out", c.out(c.tmp / "no" / "cal.json")],
          ("cal.json", "does not exist")),
@@ -561,6 +581,14 @@ def _readings(c: Ctx, n: int, still: str | None = None) -> str:
         j = "xyz".index(still)
         rows = [",".join("0.500000" if k == j else v for k, v in enumerate(r.split(","))) for r in rows]
     return "\n".join([head] + rows) + "\n"
+
+
+def _readings_of(c: Ctx, coupling_nT_per_A, b0=(18_000.0, -4_500.0, 45_000.0)) -> str:
+    """The good readings' currents with the fields B0 + K I of the coupling K given (nT/A)."""
+    lines = c.good.readings.read_text(encoding="utf-8").splitlines()
+    i = np.array([[float(v) for v in r.split(",")[:3]] for r in lines[1:]])
+    b = np.asarray(b0, dtype=float) + i @ np.asarray(coupling_nT_per_A, dtype=float).T
+    return lines[0] + "\n" + "".join(",".join(f"{v:.6f}" for v in np.r_[ii, bb]) + "\n" for ii, bb in zip(i, b))
 
 
 def _leftover_tmp(folder: Path) -> list:
