@@ -337,6 +337,29 @@ def mixed_inputs(docs: dict) -> str:
     return ""
 
 
+_SUPPLY_KEYS = ("max_current_A", "max_voltage_V", "resolution_A", "bipolar")
+
+
+def supply_mismatch(design_doc, setpoints_doc) -> str:
+    """'' when the supplies a design records (``requirement.supplies``) are the ones a current
+    table was made for (its ``supply_limits``), else the first difference; '' when either
+    does not say. The design's identity is its coils (cage.provenance.design_id), so a design
+    with the same coils and other supplies is told apart here."""
+    rec = ((design_doc or {}).get("requirement") or {}).get("supplies") if isinstance(design_doc, dict) else None
+    used = (setpoints_doc or {}).get("supply_limits") if isinstance(setpoints_doc, dict) else None
+    if not isinstance(rec, dict) or not isinstance(used, dict):
+        return ""
+    for axis in ("x", "y", "z"):
+        a, b = rec.get(axis), used.get(axis)
+        if not isinstance(a, dict) or not isinstance(b, dict):
+            continue
+        for key in _SUPPLY_KEYS:
+            if key in a and key in b and a[key] != b[key]:
+                return (f"design.json records the {axis} supply's {key} as {a[key]!r} but setpoints.json "
+                        f"was made for {b[key]!r}")
+    return ""
+
+
 # ----------------------------------------------------------------------------- applying the rules
 
 def site_for_design(design, site, heading_explicit: bool):

@@ -373,12 +373,12 @@ def plan_run(site, shape=None, minimise="power", max_field_step_nT=None, targets
 def report_consistency(design_obj, design_doc: dict, field_doc, setpoints_doc) -> str:
     """'' when a plan folder's documents come from one run, else what differs (cage.reuse)."""
     from cage.provenance import design_id
-    from cage.reuse import mixed_inputs
+    from cage.reuse import mixed_inputs, supply_mismatch
 
     docs = {"design.json": {"provenance": {**(design_doc.get("provenance") or {}),
                                            "derived_from": {"design": design_id(design_obj)}}},
             "field.json": field_doc, "setpoints.json": setpoints_doc}
-    return mixed_inputs(docs)
+    return mixed_inputs(docs) or supply_mismatch(design_doc, setpoints_doc)
 
 
 def sheet_for_design(design_obj):

@@ -146,3 +146,19 @@ def test_next_run_cleans_what_a_killed_run_left(tmp_path):
     (tmp_path / f".t.csv.{os.getpid()}-abc.tmp").write_text("ours, running")
     write_text(tmp_path / "t.csv", "x\n")
     assert sorted(p.name for p in tmp_path.iterdir()) == [f".t.csv.{os.getpid()}-abc.tmp", "plan", "t.csv"]
+
+
+def test_report_sees_a_design_with_other_supplies(tmp_path, run_cli):
+    """The design's identity is its coils; a design.json with the same coils but other supplies
+    than the current table was made for (a unipolar supply turned bipolar) is caught too: the
+    table's polarity switching would not match the hardware the report describes."""
+    import json
+
+    folder = tmp_path / "plan"
+    assert run_cli("plan", SITES / "smallsat-lab.toml", "--out", folder).code == 0
+    assert run_cli("report", folder).code == 0
+    doc = json.loads((folder / "design.json").read_text())
+    doc["requirement"]["supplies"]["y"]["bipolar"] = not doc["requirement"]["supplies"]["y"]["bipolar"]
+    (folder / "design.json").write_text(json.dumps(doc, indent=2))
+    run = run_cli("report", folder)
+    assert_one_line_error(run, "different runs", "y supply", "bipolar")
