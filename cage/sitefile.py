@@ -350,6 +350,13 @@ def _read_coil(r: _Reader, t: dict) -> CoilSettings:
             value = [value]
         if not isinstance(value, list) or not value or not all(isinstance(w, str) for w in value):
             raise r.fail("coil.wires", f"must be a list of wire names such as [\"AWG 14\", \"1.5 mm\"], got {_show(value)}")
+        from cage.wires import wire_from_name
+
+        for i, name in enumerate(value):  # every command reads the same file: an unknown wire is refused by all
+            try:
+                wire_from_name(name)
+            except InputError as exc:
+                raise r.fail(f"coil.wires[{i}]", str(exc)) from None
         wires = tuple(value)
     axis_order = None
     if "axis_order" in t:

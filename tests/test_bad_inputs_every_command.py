@@ -216,6 +216,8 @@ CASES = [
     Case("design: negative lead length", lambda c: ["design", c.site("lead_length_m = 6.0", "lead_length_m = -6"),
                                                     "--out", c.out(c.tmp / "d.json")],
          ("bad.toml", "coil.lead_length_m", "negative")),
+    Case("field: unknown wire (every command reads the whole site file)",
+         lambda c: ["field", c.site('"1.5 mm"', '"AWG 99"')], ("bad.toml", "coil.wires", "AWG 99")),
     Case("design: unknown wire", lambda c: ["design", c.site('"1.5 mm"', '"AWG 99"'), "--out", c.out(c.tmp / "d.json")],
          ("bad.toml", "coil.wires", "AWG 99")),
     Case("design: zero supply current", lambda c: ["design", c.site("max_current_A = 5", "max_current_A = 0"),
