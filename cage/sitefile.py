@@ -328,6 +328,13 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
                 raise r.fail(f"measured.points_m[{i}]", f"is {math.hypot(*p):g} m from the cage centre, farther than "
                                                          f"{'the room' + chr(39) + 's diagonal' if room else 'a survey'} "
                                                          f"({reach:.3g} m); points are in metres from the centre")
+        if measured.points_m:  # the points are there for the gradient: refused by every command alike
+            from cage.gradient import fit_gradient
+
+            try:
+                fit_gradient(measured.points_m, measured.fields_nT)
+            except InputError as exc:
+                raise InputError(f"{where}: [measured] points_m: {str(exc).removeprefix('survey: ')}") from None
         if math.sqrt(sum(v * v for v in measured.field_nT)) > 1e6:
             raise r.fail("measured.field_nT", "is above 1,000,000 nT (1 mT); is it in nT?")
         if measured.date is None:

@@ -523,6 +523,11 @@ CASES = [
                                                             'points_m = [[0, 0, 0], [1, 0, 0]]\n'
                                                             'fields_nT = [[1, 2, 3]]\n')],
          ("bad.toml", "measured.fields_nT")),
+    Case("field: survey points on one line (refused by every command, as by tolerance)",
+         lambda c: ["field", c.site(append='\n[measured]\nfield_nT = [1.0, 2.0, 3.0]\n'
+                                           'points_m = [[0, 0, 0], [1, 0, 0], [2, 0, 0]]\n'
+                                           'fields_nT = [[1, 2, 3], [1, 2, 3], [1, 2, 3]]\n')],
+         ("bad.toml", "[measured]", "span")),
     Case("field: a survey point 100 m away in a small room",
          lambda c: ["field", c.site(append='\n[measured]\nfield_nT = [1.0, 2.0, 3.0]\n'
                                            'points_m = [[0, 0, 0], [100, 0, 0], [0, 1, 0], [0, 0, 1]]\n'
