@@ -229,6 +229,26 @@ def reversed_axes_warnings(coupling_nT_per_A, design_coupling_nT_per_A) -> list[
     return _reversed_warnings(build_check(coupling_nT_per_A, design_coupling_nT_per_A).misalignment_deg)
 
 
+# A column of K known to worse than this share of itself (its standard error's norm over the
+# column's norm) does not fix the axis's null current: the fit is mostly the readings' noise.
+MAX_RELATIVE_STDERR = 0.1
+
+
+def uncertain_axes_warnings(coupling_nT_per_A, coupling_stderr_nT_per_A) -> list[str]:
+    """One warning per axis whose fitted field per ampere (column of K, nT/A) has a standard
+    error (the least-squares fit's, same shape) above MAX_RELATIVE_STDERR of its own size: its
+    current varied too little for the readings' noise. None without spare rows (NaN errors)."""
+    k = np.asarray(coupling_nT_per_A, dtype=float)
+    se = np.asarray(coupling_stderr_nT_per_A, dtype=float)
+    out = []
+    for j, axis in enumerate(AXES):
+        size, err = float(np.linalg.norm(k[:, j])), float(np.linalg.norm(se[:, j]))
+        if math.isfinite(err) and size > 0 and err > MAX_RELATIVE_STDERR * size:
+            out.append(f"axis {axis}: the fitted field per ampere is uncertain by {100.0 * err / size:.0f} % of itself "
+                       f"(its current varied too little for the readings' noise); vary it more and measure again")
+    return out
+
+
 def _reversed_warnings(misalignment_deg) -> list[str]:
     return [f"axis {axis} drives the field against its nominal direction ({angle:.0f} deg): "
             "the coil or its supply is wired backwards?"
@@ -475,11 +495,12 @@ def calibration_summary(fit: CalibrationFit, build_check: BuildCheck | None = No
         "offset_stderr_nT": [_json_number(v) for v in fit.offset_stderr_nT],
         "source_file": fit.source_file,
     })
+    uncertain = uncertain_axes_warnings(fit.coupling_nT_per_A, fit.coupling_stderr_nT_per_A)
     if build_check is None:
         out["build_check"] = None
-        out["warnings"] = []
+        out["warnings"] = uncertain
     else:
-        out["warnings"] = _reversed_warnings(build_check.misalignment_deg)
+        out["warnings"] = uncertain + _reversed_warnings(build_check.misalignment_deg)
         out["build_check"] = {
             "scale_error_percent": {a: float(v) for a, v in zip(AXES, build_check.scale_error_percent)},
             "non_orthogonality_deg": dict(build_check.non_orthogonality_deg),

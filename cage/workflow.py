@@ -287,11 +287,13 @@ def setpoint_context(design, site, calibration=None, calibration_name: str = "",
         coupling, ambient_nT, source, notes = calibration_ambient(calibration, calibration_name, derived["design"],
                                                                   site, amb)
         warnings += notes
-        from cage.calibrate import reversed_axes_warnings
+        from cage.calibrate import reversed_axes_warnings, uncertain_axes_warnings
         from cage.setpoints import design_coupling_nT_per_A
 
+        stderr = getattr(calibration, "fit", calibration).coupling_stderr_nT_per_A
         warnings += [f"{calibration_name or 'calibration'}: {w}"
-                     for w in reversed_axes_warnings(coupling, design_coupling_nT_per_A(design))]
+                     for w in uncertain_axes_warnings(coupling, stderr)
+                     + reversed_axes_warnings(coupling, design_coupling_nT_per_A(design))]
         derived["calibration"] = calibration_name
     warnings += reuse_warnings(design, supplies, site.room)
     prov = make_provenance(site, amb, derived_from=derived, heading_note=heading_note)
