@@ -70,7 +70,9 @@ def resolve_site(site_file: Optional[Path], lat: Optional[float], lon: Optional[
         orientation = sitefile.Orientation(
             heading_deg=sitefile.check_heading(site.orientation.heading_deg if heading_deg is None else heading_deg,
                                                "command line"),
-            heading_reference="magnetic" if heading_magnetic else site.orientation.heading_reference)
+            # --heading-deg is true unless --heading-magnetic says otherwise (the options' help), whatever
+            # the site file's own heading_reference
+            heading_reference="magnetic" if heading_magnetic else "true")
         site = dataclasses.replace(site, orientation=orientation)
     return site
 

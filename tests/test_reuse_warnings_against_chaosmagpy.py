@@ -137,3 +137,24 @@ def test_survey_far_from_the_model_is_warned(run_cli, tmp_path, share, warned):
     assert run.code == 0, run
     assert ("units (nT) and axes" in run.err) is warned, run.err
     assert any("units (nT) and axes" in w for w in json.loads(run.out)["provenance"]["warnings"]) is warned
+
+
+def test_heading_option_is_true_beside_a_magnetic_site_file(run_cli, tmp_path):
+    # --heading-deg is an azimuth from true north unless --heading-magnetic is given (the
+    # options' help), also beside a site file whose own heading is magnetic. Reference: the
+    # README's cage frame (x = N cos h + E sin h, y = -N sin h + E cos h, z = D) applied to
+    # chaosmagpy's NED field.
+    lat, lon = -33.9, 18.4
+    site = tmp_path / "site.toml"
+    site.write_text(f'name = "Coastal lab"\ndate = {DATE.isoformat()}\n[location]\nlatitude_deg = {lat}\n'
+                    f'longitude_deg = {lon}\naltitude_m = 0.0\n[orientation]\nheading_deg = 10.0\n'
+                    f'heading_reference = "magnetic"\n', encoding="utf-8")
+    n, e, d = chaos_ned_nT(lat, lon, 0.0, DATE)
+    for heading, extra in ((90.0, ()), (333.0, ())):
+        run = run_cli("field", site, "--heading-deg", heading, "--json", *extra)
+        assert run.code == 0, run
+        got = json.loads(run.out)["cage_frame_nT"]
+        h = math.radians(heading)
+        assert got["x"] == pytest.approx(n * math.cos(h) + e * math.sin(h), abs=1.0)
+        assert got["y"] == pytest.approx(-n * math.sin(h) + e * math.cos(h), abs=1.0)
+        assert got["z"] == pytest.approx(d, abs=1.0)
