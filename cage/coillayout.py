@@ -19,6 +19,8 @@ pairs these functions give the numbers of ``cage.layout``.
 """
 from __future__ import annotations
 
+import math
+
 import numpy as np
 
 from cage.coilaxis import AxisCage, Coil, CoilAxis
@@ -161,6 +163,33 @@ def same_axis_collisions(ax: CoilAxis, frame: FrameSpec) -> list[tuple[int, int]
                     and abs(hw[i] - hw[j]) < frame.depth_m - 1e-12:
                 out.append((i, j))
     return out
+
+
+def smallest_buildable_scale(unit_axis: CoilAxis, frame: FrameSpec, test_volume_m) -> float:
+    """The smallest factor s by which an axis's coils (``unit_axis``: positions and sizes at
+    nominal size 1; every coil scales with the size) can be built on ``frame`` around the test
+    volume (a box, sides x, y, z in metres): each coil wider than its frame's depth, no two
+    frames of the axis overlapping (``same_axis_collisions``: planes a frame width apart, or
+    half-widths a frame depth apart), and the frame's inner face outside the test volume for a
+    coil whose frame reaches into the box along the axis. Each is a bound linear in s."""
+    a = AXES.index(unit_axis.axis)
+    half = np.asarray(test_volume_m, dtype=float) / 2.0
+    u, v = (a + 1) % 3, (a + 2) % 3
+    lateral = max(half[u], half[v]) if unit_axis.shape == "square" else math.hypot(half[u], half[v])
+    hw = [c.size_m / 2.0 if unit_axis.shape == "square" else c.size_m for c in unit_axis.coils]
+    pos = [c.position_m for c in unit_axis.coils]
+    scale = 0.0
+    for i, (p, h) in enumerate(zip(pos, hw)):
+        scale = max(scale, frame.depth_m / (2.0 * h) * (1.0 + 1e-9))
+        # the frame clear of the box: along the axis (|p| s - width / 2 >= half[a]) or, reaching
+        # into it, with its inner face outside it (h s - depth / 2 >= lateral): the lesser bound
+        along = (half[a] + frame.width_m / 2.0) / abs(p) if p != 0 else math.inf
+        scale = max(scale, min(along, (lateral + frame.depth_m / 2.0) / h))
+        for j in range(i + 1, len(pos)):
+            dp, dh = abs(p - pos[j]), abs(h - hw[j])
+            apart = min(frame.width_m / dp if dp > 0 else math.inf, frame.depth_m / dh if dh > 0 else math.inf)
+            scale = max(scale, apart * (1.0 + 1e-9))
+    return scale
 
 
 def axes_geometry_problems(cage: AxisCage, frame: FrameSpec, test_volume_m=None) -> list[str]:

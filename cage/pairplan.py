@@ -132,6 +132,18 @@ def _plan_pairs(inp: PlanInputs, finish: bool = True) -> Plan:
             safe[(axis, shape)] = min_uniform_size_m(axis, shape, inp.test_volume_m, tol, inp.spacing,
                                                      inset[shape], every=True)[0]
 
+    # No smaller than the two frames can be built around the test volume (apart by a frame width,
+    # wider than the frame, clear of the box; cage.coillayout.smallest_buildable_scale), the spacing
+    # taken at the frame line (inset by half the channel: conservative by that much).
+    from cage.coillayout import smallest_buildable_scale
+    from cage.coilsystems import system_axis
+
+    for (axis, shape), (size, ratio) in list(uniform.items()):
+        unit = system_axis(axis, shape, "pair", 1.0, spacing_per_size=ratio)
+        build = smallest_buildable_scale(unit, frame, inp.test_volume_m) + inset[shape] / 2.0
+        uniform[(axis, shape)] = (max(size, build), ratio)
+        safe[(axis, shape)] = max(safe[(axis, shape)], build)
+
     def frame_line(axis: str, shape: str, size: float) -> CoilPair:
         return CoilPair(axis, shape, size, uniform[(axis, shape)][1] * (size - inset[shape] / 2.0), 1)
 

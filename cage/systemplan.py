@@ -178,7 +178,8 @@ def plan_with_systems(inp):
     axes not pairs carry ``coil_axis``), or InfeasibleError naming the closest miss."""
     from cage.axissizing import smallest_uniform_axis
     from cage.coilaxis import AxisCage
-    from cage.coillayout import axes_envelope_m, axis_extent_m, check_axes_layout, smallest_nesting_axis_size_m
+    from cage.coillayout import (axes_envelope_m, axis_extent_m, check_axes_layout, smallest_buildable_scale,
+                                 smallest_nesting_axis_size_m)
     from cage.layout import room_inner_m
     from cage.coilsystems import system_axis, systems_for_shape
     from cage.pairplan import MAX_SIZE_M, Plan, _plan_pairs, finish_plan
@@ -209,7 +210,10 @@ def plan_with_systems(inp):
                 key = (shape, system, _box_key(axis, box))
                 if key not in sizing_cache:
                     try:
-                        sizing_cache[key] = smallest_uniform_axis(axis, shape, system, tol, box_m=box).size_m
+                        size = smallest_uniform_axis(axis, shape, system, tol, box_m=box).size_m
+                        # and no smaller than its frames can be built around the test volume
+                        buildable = smallest_buildable_scale(system_axis(axis, shape, system, 1.0), frame, box)
+                        sizing_cache[key] = max(size, buildable)
                     except InfeasibleError as exc:
                         errors.append((math.inf, str(exc)))
                         sizing_cache[key] = None
