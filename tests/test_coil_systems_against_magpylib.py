@@ -264,3 +264,20 @@ def test_a_room_too_small_for_any_pair_takes_a_nested_four_coil_cage():
     assert layout.nests and layout.fits_room
     for name in AXES:
         assert _mag_deviation(_mag_axis(axes[name]), _cube_surface(0.5, 17)) <= 1e-3 * 1.005
+
+
+def test_strict_sensitivity_limits_hold_in_magpylib():
+    # A strict tolerance (10 ppm) puts the limits far below the search's upper end (5 % of the
+    # size): they are found to their own precision, not rounded to 0 (they were printed as
+    # "0 mm" and "0 deg"). magpylib: at the limit the deviation holds, 30 % beyond it misses.
+    box = (0.3, 0.3, 0.3)
+    tol = 1e-5
+    r = smallest_uniform_axis("x", "square", "four", tol, box_m=box)
+    ax = system_axis("x", "square", "four", 1.05 * r.size_m)
+    s = axis_sensitivity(ax, tol, box_m=box)
+    assert 0 < s.max_position_error_m < 1e-3 * 0.05 * ax.size_m  # below the old search step
+    pts = _cube_surface(0.3, 17)
+    k = [c.position_m for c in ax.coils].index(s.worst_shift_coil_m)
+    ok = max(_mag_deviation(_mag_axis(ax, k, d * s.max_position_error_m), pts) for d in (1, -1))
+    bad = max(_mag_deviation(_mag_axis(ax, k, d * 1.3 * s.max_position_error_m), pts) for d in (1, -1))
+    assert ok <= tol * 1.005 and bad > tol
