@@ -34,10 +34,12 @@ def design_table(plan, inp, packs=()) -> str:
         ("current density", lambda a: f"{a.electrics.current_density_A_per_mm2:.2f}", "A/mm^2"),
     ]
     width = max(len(r[0]) for r in rows) + 2
-    lines = [f"{'axis':<{width}}{'x':>14}{'y':>14}{'z':>14}"]
-    for label, get, unit in rows:
-        cells = "".join(f"{get(a):>14}" for a in plan.axes)
-        lines.append(f"{label:<{width}}{cells}  {unit}")
+    table = [(label, [str(get(a)) for a in plan.axes], unit) for label, get, unit in rows]
+    # 14 characters a column, wider where a cell needs it: at least two spaces part two cells
+    col = max([14] + [len(c) + 2 for _, cells, _ in table for c in cells])
+    lines = [f"{'axis':<{width}}{'x':>{col}}{'y':>{col}}{'z':>{col}}"]
+    for label, cells, unit in table:
+        lines.append(f"{label:<{width}}{''.join(f'{c:>{col}}' for c in cells)}  {unit}")
     lay = plan.layout
     env = " x ".join(f"{v:.3f}" for v in lay.envelope_m)
     lines += [

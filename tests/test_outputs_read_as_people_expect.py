@@ -188,3 +188,23 @@ def test_report_sections_in_words(tmp_path):
     # |SV| = 50 nT/year: 10 nT in 0.2 year = 73.05 days
     assert f"Valid until {(dt.date(2026, 12, 1) + dt.timedelta(days=73)).isoformat()}" in html
     assert math.isclose(10.0 / 50.0 * 365.25, 73.05)
+
+
+def test_design_table_cells_stay_apart(run_cli, tmp_path):
+    # Long cells (a four-coil turns pattern of hundreds of turns) must not run into each other:
+    # every row of the per-axis table reads as its label, three cells and the unit, like the
+    # header. Invented site: a coastal lab with a small bipolar supply and thin wire allowed.
+    site = tmp_path / "site.toml"
+    site.write_text('name = "Coastal lab"\ndate = 2026-06-15\n[location]\nlatitude_deg = -33.9\n'
+                    'longitude_deg = 18.4\naltitude_m = 0\n[room]\nlength_m = 5.0\nwidth_m = 4.0\nheight_m = 3.0\n'
+                    'clearance_m = 0.3\n[requirement]\ntest_volume_m = 0.3\nuniformity = 0.001\n'
+                    'extra_field_uT = 100\nshape = "square"\n[coil]\nframe_width_m = 0.04\nframe_depth_m = 0.04\n'
+                    'wires = ["AWG 14", "AWG 16", "AWG 18", "1.5 mm"]\n[[supply]]\naxis = "any"\n'
+                    'max_voltage_V = 30\nmax_current_A = 5\nresolution_A = 0.001\n', encoding="utf-8")
+    run = run_cli("design", site, "--out", tmp_path / "d.json")
+    assert run.code == 0, run
+    lines = run.out.splitlines()
+    head = next(i for i, line in enumerate(lines) if line.startswith("axis "))
+    turns = next(line for line in lines[head:] if line.startswith("turns per coil"))
+    assert len(turns.split("turns per coil", 1)[1].split()) == 3, turns
+    assert max(len(c) for c in turns.split()[3:]) >= 11  # the long patterns this site gives
