@@ -363,6 +363,12 @@ def plan_warnings(axes, inp: PlanInputs, packs=()) -> list[str]:
         if abs(a.drive.voltage_V) > 50.0:
             out.append(f"axis {_axis_name(a)}: {abs(a.drive.voltage_V):.0f} V at full range; above about 50 V DC "
                        f"touch protection is required by most electrical codes")
+    from cage.supplies import coarse_supply_warning
+
+    for a in axes:
+        coarse = coarse_supply_warning(_axis_name(a), a.supply.resolution_A, a.full_current_A, a.field_per_amp_nT)
+        if coarse:
+            out.append(coarse)
     unipolar = [_axis_name(a) for a in axes if not a.supply.bipolar]
     if unipolar:
         out.append(f"axis {', '.join(unipolar)}: unipolar supply; negative currents need a polarity switch "

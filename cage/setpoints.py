@@ -525,4 +525,10 @@ def reuse_warnings(design, supplies, room=None) -> list[str]:
         if a.max_current_A is not None and a.max_current_A > s.max_current_A:
             out.append(f"axis {axis}: the design's full-range current {a.max_current_A:.3f} A is more than this "
                        f"supply's {s.max_current_A:g} A")
+        from cage.supplies import coarse_supply_warning
+
+        coarse = coarse_supply_warning(axis, s.resolution_A, a.max_current_A, a.field_per_amp_nT)
+        if coarse:
+            out.append(coarse)
     return out
+

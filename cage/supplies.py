@@ -135,3 +135,22 @@ def rounded_setpoint_A(supply: Supply, current_A: float) -> float:
         return 0.0
     # round() drops the binary noise of steps x step (0.1 x 3 = 0.30000000000000004).
     return math.copysign(round(steps * supply.resolution_A, 12), current_A)
+
+
+# A supply whose current step moves the field by more than this share of the axis's full range
+# sets the field too coarsely to be of use (a hundred steps over the range, common practice).
+COARSE_STEP_SHARE = 0.01
+
+
+def coarse_supply_warning(axis: str, resolution_A: float, full_current_A, field_per_amp_nT) -> str:
+    """A warning when one current step of the supply (A) is more than COARSE_STEP_SHARE of the
+    axis's full-range current (A), with the field step it gives (nT, from the field per
+    ampere); '' otherwise or when the design does not record them."""
+    if full_current_A is None or not full_current_A > 0 or not resolution_A > 0:
+        return ""
+    if resolution_A <= COARSE_STEP_SHARE * full_current_A:
+        return ""
+    step = "" if field_per_amp_nT is None else f", a field step of {abs(field_per_amp_nT) * resolution_A:,.0f} nT"
+    return (f"axis {axis}: the supply's current step {resolution_A:g} A is {resolution_A / full_current_A:.0%} of the "
+            f"full-range current {full_current_A:.3g} A{step}: too coarse to set the field; use a finer supply "
+            f"(or plan with max_field_step_nT)")
