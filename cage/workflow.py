@@ -448,6 +448,25 @@ def axis_circuits(design_obj, supplies, ambient_C, where: str = "design file"):
     return np.array(r), np.array(ind)
 
 
+def polarity_flip_warnings(table, dwell_s: float) -> list[str]:
+    """One warning per unipolar axis whose current changes sign between steps of a timed
+    sequence: each change needs its polarity switch thrown, at zero current, within a step."""
+    import numpy as np
+
+    out = []
+    reverse = table.polarity_reverse
+    for j, axis in enumerate("xyz"):
+        if not table.unipolar[j]:
+            continue
+        flips = np.flatnonzero(reverse[1:, j] != reverse[:-1, j]) + 1
+        if flips.size:
+            out.append(f"axis {axis}: unipolar supply, and the current changes sign {flips.size} time"
+                       f"{'' if flips.size == 1 else 's'} (first at row {table.labels[flips[0]]}): each needs the "
+                       f"polarity switch thrown at zero current within a {dwell_s:g} s step, so the timed replay "
+                       f"stalls there; a bipolar supply follows it")
+    return out
+
+
 def sequence_table(design_obj, site, ctx: SetpointContext, targets, times, rate_Hz: Optional[float] = None,
                    where: str = "design file", extra_warnings=(), series_identity: str = ""):
     """The setpoint table of a sequence.
@@ -478,6 +497,7 @@ def sequence_table(design_obj, site, ctx: SetpointContext, targets, times, rate_
             more = "" if len(check.failing_steps) <= 10 else f" and {len(check.failing_steps) - 10} more"
             warnings.append(f"{len(check.failing_steps)} of {len(table)} steps cannot be followed at "
                             f"{rate_Hz:g} Hz: {shown}{more}")
+        warnings += polarity_flip_warnings(table, 1.0 / rate_Hz)
     warnings += list(extra_warnings)
     table = dataclasses.replace(table, warnings=tuple(warnings))
     return flag_rows(table) if rate_Hz is None else table

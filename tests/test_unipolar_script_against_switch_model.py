@@ -154,3 +154,25 @@ def test_a_sequence_script_carries_waits(run_cli, arctic, tmp_path):
     assert [r["t_s"] for r in doc["rows"]] == pytest.approx([2.5 * k for k in range(12)])
     assert all(r["dwell_s"] == 2.5 for r in doc["rows"])
     walk(text, {r["label"]: r for r in doc["rows"]})
+
+
+def test_a_timed_replay_warns_of_each_unipolar_sign_change(run_cli, arctic, tmp_path):
+    # The arctic hut's x and y supplies are unipolar. A replayed series whose x field swings
+    # through the ambient makes the x current change sign; each change is a switch thrown by
+    # hand (the bench model above), which a timed replay cannot wait for: the count in the
+    # warning is the count of sign changes of the table's own signed x setpoints.
+    import math
+
+    design, _, _ = arctic
+    series = tmp_path / "swing.csv"
+    series.write_text("t_s,x_nT,y_nT,z_nT\n" + "".join(
+        f"{t},{30000 * math.cos(t / 100):.1f},100.0,45000.0\n" for t in range(0, 600, 10)), encoding="utf-8")
+    args = ("sequence", design, SITES / "arctic-cal-hut.toml", "--series", series, "--rate-Hz", "1")
+    run = run_cli(*args, "--format", "json")
+    assert run.code == 0, run
+    xs = [r["setpoint_A"]["x"] for r in json.loads(run.out)["rows"]]
+    flips = sum(1 for a, b in zip(xs, xs[1:]) if (a < 0) != (b < 0))
+    assert flips >= 1
+    text = f"axis x: unipolar supply, and the current changes sign {flips} time"
+    assert text in run.err
+    assert text in " ".join(json.loads(run.out)["provenance"]["warnings"])
