@@ -87,11 +87,17 @@ def winding_for_axis(ax1, inp, uniform_size_m: float):
             continue
         k_cur = max(1, math.ceil(need_T / (f1 * supply.max_current_A) - 1e-9))
         k_hi = k_fit
+        why = f"{k_fit} fit the frame channel"
         if inp.max_field_step_nT is not None:
-            k_hi = min(k_hi, math.floor(inp.max_field_step_nT * 1e-9 / (f1 * supply.resolution_A) * (1 + 1e-12)))
+            k_step = math.floor(inp.max_field_step_nT * 1e-9 / (f1 * supply.resolution_A) * (1 + 1e-12))
+            if k_step < k_hi:
+                k_hi = k_step
+                why = (f"{k_step} keep the field step under {inp.max_field_step_nT:g} nT with the supply's "
+                       f"{supply.resolution_A:g} A step")
         if k_cur > k_hi:
-            miss(k_cur / max(k_hi, 1), f"{what} needs {need_T * 1e6:.1f} uT: that takes at least {k_cur} x its "
-                                       f"turns pattern of {wire}, at most {k_hi} allowed")
+            miss(k_cur / max(k_hi, 1), f"{what} needs {need_T * 1e6:.1f} uT within the supply's "
+                                       f"{supply.max_current_A:g} A: that takes at least {k_cur} x its turns pattern "
+                                       f"of {wire}, while at most {why}")
             continue
 
         def evaluate(k):
@@ -188,6 +194,7 @@ def plan_with_systems(inp):
     box = np.asarray(inp.test_volume_m, dtype=float)
     best, best_key = None, None
     errors = []
+    pair_error = None
     if "pair" in inp.systems:
         try:
             pair_plan = _plan_pairs(inp, finish=False)
@@ -195,7 +202,8 @@ def plan_with_systems(inp):
             best_key = _objective(inp, pair_plan.total_power_W, pair_plan.copper_mass_kg,
                                   float(np.prod(pair_plan.layout.envelope_m)))
         except InfeasibleError as exc:
-            errors.append((1.0, str(exc)))
+            pair_error = (1.0, str(exc))
+            errors.append(pair_error)
 
     # Per axis, the options (shape, system) and their smallest uniform axis.
     tol = inp.uniformity * SYSTEM_UNIFORMITY_MARGIN
@@ -354,7 +362,12 @@ def plan_with_systems(inp):
                                  f"room less its clearance allows {room} m"))
         if not errors:
             raise InfeasibleError(f"no coil system among {', '.join(inp.systems)} meets the requirement")
-        raise InfeasibleError(min(errors, key=lambda e: e[0])[1])
+        closest = min(errors, key=lambda e: e[0])
+        others = [e for e in errors if e is not pair_error]
+        if closest is pair_error and others:
+            # the pairs' miss alone would hide what stops the other systems: name both
+            raise InfeasibleError(f"pairs: {closest[1]}; with the other allowed coil systems: {min(others, key=lambda e: e[0])[1]}")
+        raise InfeasibleError(closest[1])
     return finish_plan(best, inp)
 
 
