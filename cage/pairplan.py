@@ -366,7 +366,8 @@ def plan_warnings(axes, inp: PlanInputs, packs=()) -> list[str]:
     from cage.supplies import coarse_supply_warning
 
     for a in axes:
-        coarse = coarse_supply_warning(_axis_name(a), a.supply.resolution_A, a.full_current_A, a.field_per_amp_nT)
+        coarse = coarse_supply_warning(_axis_name(a), getattr(a.supply, "resolution_A", None),
+                                       getattr(a, "full_current_A", None), getattr(a, "field_per_amp_nT", None))
         if coarse:
             out.append(coarse)
     unipolar = [_axis_name(a) for a in axes if not a.supply.bipolar]

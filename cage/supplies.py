@@ -146,7 +146,7 @@ def coarse_supply_warning(axis: str, resolution_A: float, full_current_A, field_
     """A warning when one current step of the supply (A) is more than COARSE_STEP_SHARE of the
     axis's full-range current (A), with the field step it gives (nT, from the field per
     ampere); '' otherwise or when the design does not record them."""
-    if full_current_A is None or not full_current_A > 0 or not resolution_A > 0:
+    if full_current_A is None or resolution_A is None or not full_current_A > 0 or not resolution_A > 0:
         return ""
     if resolution_A <= COARSE_STEP_SHARE * full_current_A:
         return ""
