@@ -81,3 +81,17 @@ def test_small_volume_designs_can_be_built(run_cli, tmp_path, system, volume, sh
                 assert abs(p - q) >= width - 1e-9 or abs(hw - hw2) >= depth - 1e-9, (axis_name, p, q)
     # and the tool's own reader of design files takes it (it checks the same geometry)
     assert run_cli("build", design).code == 0
+
+
+def test_small_volume_plan_meets_the_uniformity_with_its_winding_packs(run_cli, tmp_path):
+    # Every coil system allowed: the search's filament model flatters a small coil on a wide
+    # channel (a 2 cm cube: a three-coil z axis of 0.26 m side with 40 mm channels is 0.6 % with
+    # its real pack); the plan given must meet the 0.1 % with the packs it records, and says why
+    # it passed over the cheaper one.
+    site = tmp_path / "site.toml"
+    site.write_text(SITE.format(volume=0.02, shape="square"), encoding="utf-8")
+    design = tmp_path / "design.json"
+    run = run_cli("design", site, "--out", design)
+    assert run.code == 0, run
+    doc = json.loads(design.read_text())
+    assert max(doc["layout"]["winding_pack_uniformity"]) <= doc["requirement"]["uniformity"]
