@@ -240,16 +240,9 @@ def _largest_ok(ok, upper: float, rel: float = 1e-3) -> float:
     """Largest error in [0, upper] where ``ok`` holds (it holds at 0), by bisection to ``rel`` of
     the answer itself (not of ``upper``: a strict design's limits are far below it, and a step
     of upper / 1000 would print them as 0), with a floor of 1e-9 x upper."""
-    if ok(upper):
-        return upper
-    good, bad = 0.0, upper
-    while bad - good > max(rel * bad, 1e-9 * upper):
-        mid = 0.5 * (good + bad)
-        if ok(mid):
-            good = mid
-        else:
-            bad = mid
-    return good
+    from cage.layout import _bisect_edge
+
+    return upper if ok(upper) else _bisect_edge(ok, good=0.0, bad=upper, tolerance=1e-9 * upper, rel=rel)
 
 
 def axis_sensitivity(ax: CoilAxis, tolerance: float, *, box_m=None, sphere_radius_m=None) -> AxisSensitivity:

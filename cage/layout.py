@@ -450,10 +450,11 @@ def largest_clear_size_m(ok, upper_m: float, tolerance_m: float = 5e-4) -> float
     return _bisect_edge(ok, good=lo, bad=float(upper_m), tolerance=tolerance_m)
 
 
-def _bisect_edge(ok, good: float, bad: float, tolerance: float) -> float:
+def _bisect_edge(ok, good: float, bad: float, tolerance: float, rel: float = 0.0) -> float:
     """Bisect between a value where ``ok`` holds and one where it does not; return the last
-    value where it holds, within ``tolerance`` of the edge."""
-    while abs(bad - good) > tolerance:
+    value where it holds, within ``tolerance`` of the edge (or ``rel`` of the failing end's
+    size, when that is larger)."""
+    while abs(bad - good) > max(tolerance, rel * abs(bad)):
         mid = 0.5 * (good + bad)
         if ok(mid):
             good = mid
