@@ -322,12 +322,14 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
                                                f"{len(measured.points_m)} points_m")
         # survey points lie in the room around the cage: none farther from the centre than the
         # room's diagonal (100 m without a room)
-        reach = math.hypot(room.length_m, room.width_m, room.height_m) if room is not None else 100.0
+        if room is not None:
+            reach, limit = math.hypot(room.length_m, room.width_m, room.height_m), "the room's diagonal"
+        else:
+            reach, limit = 100.0, "a survey of a cage reaches"
         for i, p in enumerate(measured.points_m):
             if math.hypot(*p) > reach:
                 raise r.fail(f"measured.points_m[{i}]", f"is {math.hypot(*p):g} m from the cage centre, farther than "
-                                                         f"{'the room' + chr(39) + 's diagonal' if room else 'a survey'} "
-                                                         f"({reach:.3g} m); points are in metres from the centre")
+                                                         f"{limit} ({reach:.3g} m); points are in metres from the centre")
         if measured.points_m:  # the points are there for the gradient: refused by every command alike
             from cage.gradient import fit_gradient
 
