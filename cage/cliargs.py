@@ -66,10 +66,9 @@ def resolve_site(site_file: Optional[Path], lat: Optional[float], lon: Optional[
         site = dataclasses.replace(site, name=name, location=location, measured=None)
     if date is not None:
         site = dataclasses.replace(site, date=sitefile.parse_date(date, "--date"), date_given=True)
-    if heading_deg is not None or heading_magnetic:
+    if heading_deg is not None:  # (--heading-magnetic alone beside a file is refused above)
         orientation = sitefile.Orientation(
-            heading_deg=sitefile.check_heading(site.orientation.heading_deg if heading_deg is None else heading_deg,
-                                               "command line"),
+            heading_deg=sitefile.check_heading(heading_deg, "command line"),
             # --heading-deg is true unless --heading-magnetic says otherwise (the options' help), whatever
             # the site file's own heading_reference
             heading_reference="magnetic" if heading_magnetic else "true")

@@ -49,3 +49,8 @@ def longitude_text(value: float, decimals: int = 4, degree: str = " deg") -> str
     if float(text) == 0.0 or float(text) == 180.0:
         return f"{text}{degree}"
     return f"{text}{degree} {'E' if v > 0 else 'W'}"
+
+
+def count_text(n: int, noun: str) -> str:
+    """A count with its noun, singular for one: "1 day", "3 days" (a plain -s plural)."""
+    return f"{n} {noun}{'' if n == 1 else 's'}"

@@ -55,7 +55,9 @@ def age_text(then: _dt.date, now: _dt.date) -> str:
     years = age_years(then, now)
     days = (now - then).days
     if abs(days) < 60:
-        span = f"{abs(days)} day{'' if abs(days) == 1 else 's'}"
+        from cage.numberformat import count_text
+
+        span = count_text(abs(days), "day")
     else:
         span = f"{abs(years):.1f} years"
     return span + (" old" if days >= 0 else " ahead")

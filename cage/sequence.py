@@ -290,3 +290,23 @@ def check_slew(
         peak_voltage_V=required.max(axis=0),
         peak_current_A=np.abs(i).max(axis=0),
     )
+
+
+def polarity_flip_warnings(table, dwell_s: float) -> list[str]:
+    """One warning per unipolar axis whose current changes sign between steps of a timed
+    sequence (a ``cage.setpoints.SetpointTable``, rows one step apart of ``dwell_s`` seconds): each
+    change needs its polarity switch thrown, at zero current, within a step."""
+    from cage.numberformat import count_text
+
+    out = []
+    reverse = table.polarity_reverse
+    for j, axis in enumerate("xyz"):
+        if not table.unipolar[j]:
+            continue
+        flips = np.flatnonzero(reverse[1:, j] != reverse[:-1, j]) + 1
+        if flips.size:
+            out.append(f"axis {axis}: unipolar supply, and the current changes sign {count_text(flips.size, 'time')} "
+                       f"(first at row {table.labels[flips[0]]}): each needs the "
+                       f"polarity switch thrown at zero current within a {dwell_s:g} s step, so the timed replay "
+                       f"stalls there; a bipolar supply follows it")
+    return out

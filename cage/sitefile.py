@@ -328,8 +328,9 @@ def site_from_dict(tree: dict, where: str = "site") -> Site:
             reach, limit = 100.0, "a survey of a cage reaches"
         for i, p in enumerate(measured.points_m):
             if math.hypot(*p) > reach:
-                raise r.fail(f"measured.points_m[{i}]", f"is {math.hypot(*p):g} m from the cage centre, farther than "
-                                                         f"{limit} ({reach:.3g} m); points are in metres from the centre")
+                raise r.fail(f"measured.points_m[{i}]", f"is {math.hypot(*p):g} m from the cage centre, farther "
+                                                         f"than {limit} ({reach:.3g} m); points are in metres from "
+                                                         f"the centre")
         if measured.points_m:  # the points are there for the gradient: refused by every command alike
             from cage.gradient import fit_gradient
 

@@ -213,7 +213,7 @@ def plan_with_systems(inp):
                                  smallest_nesting_axis_size_m)
     from cage.layout import room_inner_m
     from cage.coilsystems import system_axis, systems_for_shape
-    from cage.pairplan import MAX_SIZE_M, Plan, _plan_pairs, finish_plan
+    from cage.pairplan import MAX_SIZE_M, Plan, _plan_pairs
 
     frame = inp.frame
     box = np.asarray(inp.test_volume_m, dtype=float)
@@ -391,7 +391,8 @@ def plan_with_systems(inp):
         others = [e for e in errors if e is not pair_error]
         if closest is pair_error and others:
             # the pairs' miss alone would hide what stops the other systems: name both
-            raise InfeasibleError(f"pairs: {closest[1]}; with the other allowed coil systems: {min(others, key=lambda e: e[0])[1]}")
+            other = min(others, key=lambda e: e[0])[1]
+            raise InfeasibleError(f"pairs: {closest[1]}; with the other allowed coil systems: {other}")
         raise InfeasibleError(closest[1])
     return _packs_kept(best, pair_plan, inp)
 

@@ -316,13 +316,14 @@ def flag_rows(table, limit: int = 10):
     import numpy as np
 
     from cage.escape import for_terminal
+    from cage.numberformat import count_text
 
     bad = [table.labels[k] for k in np.flatnonzero(~table.within_limits)]
     if not bad:
         return table
     more = "" if len(bad) <= limit else f" and {len(bad) - limit} more"
     return dataclasses.replace(table, warnings=table.warnings + (
-        f"{len(bad)} row{'' if len(bad) == 1 else 's'} outside the supplies' limits (flagged, not clipped): "
+        f"{count_text(len(bad), 'row')} outside the supplies' limits (flagged, not clipped): "
         f"{', '.join(for_terminal(b) for b in bad[:limit])}{more}",))
 
 
@@ -448,25 +449,6 @@ def axis_circuits(design_obj, supplies, ambient_C, where: str = "design file"):
     return np.array(r), np.array(ind)
 
 
-def polarity_flip_warnings(table, dwell_s: float) -> list[str]:
-    """One warning per unipolar axis whose current changes sign between steps of a timed
-    sequence: each change needs its polarity switch thrown, at zero current, within a step."""
-    import numpy as np
-
-    out = []
-    reverse = table.polarity_reverse
-    for j, axis in enumerate("xyz"):
-        if not table.unipolar[j]:
-            continue
-        flips = np.flatnonzero(reverse[1:, j] != reverse[:-1, j]) + 1
-        if flips.size:
-            out.append(f"axis {axis}: unipolar supply, and the current changes sign {flips.size} time"
-                       f"{'' if flips.size == 1 else 's'} (first at row {table.labels[flips[0]]}): each needs the "
-                       f"polarity switch thrown at zero current within a {dwell_s:g} s step, so the timed replay "
-                       f"stalls there; a bipolar supply follows it")
-    return out
-
-
 def sequence_table(design_obj, site, ctx: SetpointContext, targets, times, rate_Hz: Optional[float] = None,
                    where: str = "design file", extra_warnings=(), series_identity: str = ""):
     """The setpoint table of a sequence.
@@ -485,7 +467,7 @@ def sequence_table(design_obj, site, ctx: SetpointContext, targets, times, rate_
     table = table_of(design_obj, site, ctx, targets, times)
     warnings = list(table.warnings)
     if rate_Hz is not None:
-        from cage.sequence import check_slew
+        from cage.sequence import check_slew, polarity_flip_warnings
         from cage.setpoints import flag_slew
 
         r_ohm, l_H = axis_circuits(design_obj, table.supplies, site.coil.ambient_temperature_C, where)
